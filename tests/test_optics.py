@@ -1,0 +1,138 @@
+"""Lens optics: the distance laws of radiometry (P = L A cos θ Ω; Boyd 1983) and the
+thin-lens timing of a beam-pair crossing (DESIGN.md §3.3, Born & Wolf)."""
+
+import math
+
+import numpy as np
+import pytest
+
+from pirchain.optics import (
+    Facet,
+    Lens,
+    LensRing,
+    Mount,
+    ceiling_lens,
+    element_power,
+    make_beams,
+    part_angles,
+)
+from pirchain.scene import BodyPart, Environment, Target, straight_walks, walks_from_paths
+from pirchain.scene import Path as WalkPath
+from pirchain.sensor import dual_elements, single_element
+from pirchain.target_pose import pose
+
+F = 20e-3
+ONE_FACET = Lens((Facet(0.0, 0.0, F, 1e-4, 1.0),))
+MOUNT = Mount("wall", height=1.0)
+ENV = Environment(air_c=20.0)
+
+
+def box(width, z0, z1, temp_c=30.0):
+    return Target("box", (BodyPart("box", z0, z1, width, width, "fixed", 1.0, temp_c),))
+
+
+def static_power(target, distances, elements=None, lens=ONE_FACET, mount=MOUNT, bearing=0.0):
+    elements = single_element(1e-3, 2e-3) if elements is None else elements
+    d = np.asarray(distances, dtype=float)
+    starts = np.stack([d * math.cos(bearing), d * math.sin(bearing)], axis=1)
+    heads = np.tile([[0.0, 1.0]], (len(d), 1))
+    walks = straight_walks(starts, heads, 1.0, 0.02, 100.0, start_times=10.0)  # standing
+    beams = make_beams(lens, mount, elements)
+    pp = pose(target, walks)
+    ang = part_angles(pp.x, pp.y, pp.half_width, pp.z_bottom, pp.z_top, mount.height)
+    p = element_power(beams, ang, target.radiance_contrast(ENV), len(elements))
+    return p[:, 0, :], beams
+
+
+def test_small_target_inverse_square():
+    d = np.linspace(2.0, 20.0, 10)
+    p, _ = static_power(box(0.02, 0.99, 1.01), d)
+    pd2 = p[:, 0] * d**2
+    assert np.ptp(pd2) / pd2.mean() < 0.02
+    # and the absolute value: P = τ A cos θ ΔL · (a/d²) for a 2 × 2 cm target
+    dl = box(0.02, 0.99, 1.01).radiance_contrast(ENV)[0]
+    assert pd2[-1] == pytest.approx(1e-4 * dl * 0.02 * 0.02, rel=2e-3)
+
+
+def test_beam_filling_target_independent_of_distance():
+    d = np.linspace(2.0, 20.0, 10)
+    p, beams = static_power(box(4.0, 0.0, 4.0), d, mount=Mount("wall", height=1.5))
+    np.testing.assert_allclose(p[:, 0], p[0, 0], rtol=1e-12)
+    dl = box(4.0, 0.0, 4.0).radiance_contrast(ENV)[0]
+    assert p[0, 0] == pytest.approx(1e-4 * dl * beams.solid_angle[0], rel=1e-12)
+    # the beam's solid angle is the element's area over f² (small-angle thin lens)
+    assert beams.solid_angle[0] == pytest.approx(2e-6 / F**2, rel=2e-3)
+
+
+def test_vertically_filling_target_inverse_distance():
+    d = np.linspace(2.0, 20.0, 10)
+    p, _ = static_power(box(0.02, 0.0, 3.0), d)
+    pd = p[:, 0] * d
+    assert np.ptp(pd) / pd.mean() < 0.02
+
+
+def crossing(temp_c, speed=1.0, distance=5.0, spacing=2e-3):
+    target = box(0.05, 0.95, 1.05, temp_c)
+    path = WalkPath(((distance, -1.5), (distance, 1.5)), speed)
+    walks = walks_from_paths([path], 3.0 / speed, 500.0)
+    elements = dual_elements(1e-3, 2e-3, spacing)
+    beams = make_beams(ONE_FACET, MOUNT, elements)
+    pp = pose(target, walks)
+    ang = part_angles(pp.x, pp.y, pp.half_width, pp.z_bottom, pp.z_top, MOUNT.height)
+    p = element_power(beams, ang, target.radiance_contrast(ENV), 2)[0]
+    return walks.time, p[:, 0] - p[:, 1]
+
+
+@pytest.mark.parametrize(
+    "speed,distance,spacing", [(1.0, 5.0, 2e-3), (0.5, 8.0, 2e-3), (2.0, 4.0, 3e-3)]
+)
+def test_crossing_lobes_separated_by_ds_over_fv(speed, distance, spacing):
+    t, diff = crossing(30.0, speed, distance, spacing)
+    pos, neg = np.clip(diff, 0, None), np.clip(-diff, 0, None)
+    t_pos, t_neg = (t * pos).sum() / pos.sum(), (t * neg).sum() / neg.sum()
+    expected = distance * spacing / (F * speed)
+    assert abs(t_pos - t_neg) == pytest.approx(expected, rel=0.05)
+    assert pos.sum() == pytest.approx(neg.sum(), rel=1e-6)  # bipolar and balanced
+
+
+def test_cool_target_inverts_pair():
+    t, warm = crossing(30.0)
+    _, cool = crossing(10.0)
+    order_warm = np.sign(warm[np.argmax(np.abs(warm))])
+    assert np.all(np.sign(cool[np.abs(cool) > 0]) == -np.sign(warm[np.abs(cool) > 0]))
+    assert order_warm != 0
+
+
+def test_flat_lens_incidence_factor():
+    fac = (Facet(0.0, 0.0, F, 1e-4, 1.0), Facet(40.0, 0.0, F, 1e-4, 1.0))
+    dome = make_beams(Lens(fac, "dome"), MOUNT, single_element())
+    flat = make_beams(Lens(fac, "flat"), MOUNT, single_element())
+    assert dome.weight[1] == pytest.approx(1e-4, rel=1e-12)
+    assert flat.weight[1] == pytest.approx(1e-4 * math.cos(math.radians(40.0)), rel=1e-9)
+
+
+def test_tilt_and_inversion():
+    tilt = math.radians(10.0)
+    beams = make_beams(ONE_FACET, Mount("wall", 2.0, tilt_deg=10.0), dual_elements())
+    # Element centres ±1 mm off axis image to directions δ = atan(1 mm / f) either side of
+    # the facet axis (inverted: the + element at +y images to the right, −y); the detector
+    # is then pitched down by the tilt: d = (cos δ cos t, ∓ sin δ, −cos δ sin t).
+    delta = math.atan(1e-3 / F)
+    np.testing.assert_allclose(
+        beams.elevation, -math.asin(math.cos(delta) * math.sin(tilt)), atol=1e-12
+    )
+    az = math.atan2(math.sin(delta), math.cos(delta) * math.cos(tilt))
+    np.testing.assert_allclose(beams.azimuth, [-az, az], atol=1e-12)
+
+
+def test_ceiling_ring_geometry():
+    lens = ceiling_lens([LensRing(45.0, 8, 15e-3, 5e-5)])
+    beams = make_beams(lens, Mount("ceiling", 3.0), single_element())
+    np.testing.assert_allclose(beams.elevation, math.radians(-45.0), atol=1e-12)
+    az = np.sort(np.mod(np.degrees(beams.azimuth), 360.0))
+    np.testing.assert_allclose(az, np.arange(8) * 45.0, atol=1e-9)
+    # the element 2 × 1 mm seen from a facet 45° off the sensor normal is foreshortened by
+    # cos 45°: solid angle A cos θ / f² (small-angle thin lens)
+    np.testing.assert_allclose(
+        beams.solid_angle, 2e-6 * math.cos(math.pi / 4) / 15e-3**2, rtol=2e-3
+    )
