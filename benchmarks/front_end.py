@@ -42,10 +42,14 @@ def main() -> None:
     t1 = time.perf_counter()
     signal.sosfilt(sos, x, axis=-1)
     floor = time.perf_counter() - t1
-    print(f"walks: {n} x {walks.n_samples} samples ({samples:.3g} samples), "
-          f"{det.beams().count} beams, {len(tgt.parts)} body parts")
-    print(f"front end (pose + radiometry + optics + sensor): {elapsed:.3f} s "
-          f"= {samples / elapsed:.3g} samples/s")
+    print(
+        f"walks: {n} x {walks.n_samples} samples ({samples:.3g} samples), "
+        f"{det.beams().count} beams, {len(tgt.parts)} body parts"
+    )
+    print(
+        f"front end (pose + radiometry + optics + sensor): {elapsed:.3f} s "
+        f"= {samples / elapsed:.3g} samples/s"
+    )
     print(f"bare sosfilt of the sensor sections over the same samples: {floor:.4f} s")
     print(f"ratio front end / bare filtering: {elapsed / floor:.1f}")
 

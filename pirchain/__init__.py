@@ -10,5 +10,12 @@ from .errors import DesignError, PirchainError, ValidityWarning
 
 __version__ = "0.1.0"
 
-__all__ = ["CAUTIONS", "Detector", "DesignError", "FrontEndResult", "PirchainError",
-           "ValidityWarning", "__version__"]
+__all__ = [
+    "CAUTIONS",
+    "Detector",
+    "DesignError",
+    "FrontEndResult",
+    "PirchainError",
+    "ValidityWarning",
+    "__version__",
+]

@@ -40,8 +40,10 @@ def front_end_summary(distances=(2.0, 4.0, 6.0, 8.0, 10.0, 12.0), speed=1.0) -> 
     ]
     peak_p = np.abs(res.equivalent_power).max(axis=1) * 1e9
     peak_v = np.abs(res.gate_voltage).max(axis=1) * 1e6
-    lines += [f"{d:12.1f}  {p:16.3f}  {v:18.1f}" for d, p, v in zip(distances, peak_p, peak_v,
-                                                                       strict=True)]
+    lines += [
+        f"{d:12.1f}  {p:16.3f}  {v:18.1f}"
+        for d, p, v in zip(distances, peak_p, peak_v, strict=True)
+    ]
     return "\n".join(lines)
 
 

@@ -390,6 +390,13 @@ class PyroSensor:
         z, p, g = signal.bilinear_zpk([0.0], [-1.0 / tt, -1.0 / te], k, fs)
         return signal.zpk2sos(z, p, g)
 
+    def current_sos(self, sample_rate: float) -> np.ndarray:
+        """Sections of the gate-source current i_eq / P_eq = R_I τ_T s / (1 + s τ_T) [A W⁻¹]."""
+        fs = check_positive("sample_rate", sample_rate, "Hz")
+        tt = self.thermal_time_constant
+        z, p, g = signal.bilinear_zpk([0.0], [-1.0 / tt], self.current_responsivity, fs)
+        return signal.zpk2sos(z, p, g)
+
     def equivalent_power(self, power) -> np.ndarray:
         """P_eq = Σ_k c_k P_k over the last axis of ``power`` (walks, samples, elements) [W]."""
         p = np.asarray(power, dtype=float)
@@ -422,3 +429,14 @@ def gate_voltage(sensor: PyroSensor, power, sample_rate: float, steady_start: bo
     if steady_start:
         p_eq = p_eq - p_eq[..., :1]
     return signal.sosfilt(sensor.sos(sample_rate), p_eq, axis=-1)
+
+
+def gate_current(sensor: PyroSensor, power, sample_rate: float, steady_start: bool = True):
+    """Equivalent pyroelectric current into the gate node, shape (walks, samples) [A].
+
+    This is the source that drives R_G ∥ C_gate (as exported to SPICE).
+    """
+    p_eq = sensor.equivalent_power(power)
+    if steady_start:
+        p_eq = p_eq - p_eq[..., :1]
+    return signal.sosfilt(sensor.current_sos(sample_rate), p_eq, axis=-1)

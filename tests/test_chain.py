@@ -1,0 +1,62 @@
+"""Whole-chain behaviour: supply budget (Ohm's law per part; REFERENCES.md: a two-wire
+switch lives on tens of µA, common practice), rest levels and end-to-end detection."""
+
+import dataclasses
+
+import numpy as np
+import pytest
+
+from pirchain.demo import demo_detector, demo_environment
+from pirchain.errors import ValidityWarning
+from pirchain.scene import adult, tangential_path, walks_from_paths
+from pirchain.supply import PowerSupply
+
+
+def test_supply_budget_per_part_and_sum():
+    det = demo_detector()
+    b = det.supply_budget()
+    items = dict(b.items)
+    assert items["JFET follower drain current"] == pytest.approx(det.follower.offset / 47e3)
+    assert items["reference divider"] == pytest.approx(3.3 / 2e6)
+    assert items["comparator window divider"] == pytest.approx(3.3 / 2.47e6)
+    assert sum(1 for k in items if k.startswith("op-amp")) == 2
+    assert b.total == pytest.approx(sum(items.values()), rel=1e-12)
+    assert not b.exceeds_limit
+    assert "total" in b.table()
+
+
+def test_supply_budget_warns_above_two_wire_limit():
+    det = dataclasses.replace(demo_detector(), supply=PowerSupply(3.3, 1e6, 1e6, limit=20e-6))
+    with pytest.warns(ValidityWarning, match="exceeds the limit"):
+        b = det.supply_budget()
+    assert b.exceeds_limit
+
+
+def test_rest_levels_and_window():
+    det = demo_detector()
+    levels = det.rest_levels()
+    assert levels[0] == pytest.approx(det.follower.offset)
+    assert levels[1] == pytest.approx(levels[0])  # non-inverting stage: DC gain 1
+    assert levels[2] == pytest.approx(1.65)  # AC-coupled inverting stage rests at its v_ref
+    lo, hi = det.window()
+    assert lo < levels[-1] < hi
+
+
+def test_detection_near_but_not_far():
+    det = demo_detector()
+    paths = [tangential_path(d, 0.0, 1.0, length=6.0) for d in (4.0, 8.0, 60.0)]
+    res = det.simulate(adult(), demo_environment(), walks_from_paths(paths, 10.0, 100.0))
+    np.testing.assert_array_equal(res.detected, [True, True, False])
+    # the comparator input of the far walk stays inside the window
+    far = res.analog.comparator_input[2]
+    assert np.all((far > res.window[0]) & (far < res.window[1]))
+
+
+def test_chain_transfer_function_is_product_of_stages():
+    det = demo_detector()
+    f = 1.0
+    h = det.transfer_function(gbw=False)(2j * np.pi * f)
+    prod = det.sensor.transfer_function()(2j * np.pi * f) * det.follower.gain
+    for st in det.stages:
+        prod *= st.transfer_function()(2j * np.pi * f)
+    assert h == pytest.approx(prod, rel=1e-12)
