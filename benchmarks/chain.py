@@ -1,0 +1,65 @@
+"""The same walk through pirchain and through ngspice: time ratio and largest difference.
+
+Run:  python benchmarks/chain.py [--batch N] [--distance M]
+pirchain runs the walk inside a batch of N copies (its normal use) and the time per walk is
+the batch time / N; ngspice runs the exported netlist of the same walk once. Both times
+cover the analog chain from the gate current to the comparator input (the part ngspice
+simulates); pirchain's full-chain time per walk is printed as well.
+"""
+
+from __future__ import annotations
+
+import argparse
+import time
+
+import numpy as np
+
+from pirchain.demo import demo_detector, demo_environment
+from pirchain.netlist import run_ngspice
+from pirchain.scene import adult, tangential_path, walks_from_paths
+from pirchain.sensor import gate_current
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser(description=__doc__)
+    ap.add_argument("--batch", type=int, default=1000)
+    ap.add_argument("--distance", type=float, default=20.0)
+    ap.add_argument("--rate", type=float, default=100.0)
+    args = ap.parse_args()
+    det, env, tgt = demo_detector(), demo_environment(), adult()
+    fs = args.rate
+    walk = walks_from_paths([tangential_path(args.distance, 0.0, 1.0, length=6.0)], 10.0, fs)
+    res = det.simulate(tgt, env, walk)
+    cur = gate_current(det.sensor, res.front.element_power, fs)[0]
+
+    t0 = time.perf_counter()
+    ts, v = run_ngspice(det, cur, fs)
+    t_spice = time.perf_counter() - t0
+
+    gate = np.repeat(res.front.gate_voltage, args.batch, axis=0)
+    t0 = time.perf_counter()
+    ana = det.analog(gate, fs)
+    t_analog = (time.perf_counter() - t0) / args.batch
+
+    batch = walks_from_paths([tangential_path(args.distance, 0.0, 1.0, length=6.0)] * args.batch,
+                             10.0, fs)
+    t0 = time.perf_counter()
+    det.simulate(tgt, env, batch)
+    t_full = (time.perf_counter() - t0) / args.batch
+
+    n = min(ts.size, res.time.size)
+    ours = ana.comparator_input[0, :n]
+    peak = np.max(np.abs(ours - det.rest_levels()[-1]))
+    diff = np.max(np.abs(v["out2"][:n] - ours))
+    print(f"walk: tangential, {args.distance:g} m, 1 m/s, 10 s at {fs:g} Hz; batch {args.batch}")
+    print(f"ngspice, one walk (analog chain):           {t_spice * 1e3:10.2f} ms")
+    print(f"pirchain per walk, analog chain (batched):  {t_analog * 1e6:10.2f} us")
+    print(f"pirchain per walk, whole chain (batched):   {t_full * 1e6:10.2f} us")
+    print(f"speed ratio ngspice / pirchain (analog):    {t_spice / t_analog:10.0f}")
+    print(f"speed ratio ngspice / pirchain (whole):     {t_spice / t_full:10.0f}")
+    print(f"max |difference| at the comparator input:   {diff * 1e3:10.4f} mV "
+          f"= {100 * diff / peak:.3f} % of the {peak:.3f} V peak")
+
+
+if __name__ == "__main__":
+    main()
