@@ -20,30 +20,36 @@ def _epilog() -> str:
     return "Caution: " + textwrap.fill(CAUTIONS, 78)
 
 
-def front_end_summary(distances=(2.0, 4.0, 6.0, 8.0, 10.0, 12.0), speed=1.0) -> str:
-    """Peak element power and gate voltage of tangential demo walks on the boresight."""
+def demo_summary(distances=(2.0, 4.0, 8.0, 12.0, 16.0, 20.0, 25.0, 30.0), speed=1.0) -> str:
+    """Tangential demo walks through the whole chain, power-up settling and supply budget."""
     det = demo_detector()
     env = demo_environment()
     paths = [tangential_path(d, 0.0, speed, length=6.0) for d in distances]
-    walks = walks_from_paths(paths, 6.0 / speed + 2.0, 100.0)
-    res = det.front_end(adult(), env, walks)
+    walks = walks_from_paths(paths, 6.0 / speed + 4.0, 100.0)
+    res = det.simulate(adult(), env, walks)
     s = det.sensor
+    lo, hi = res.window
+    _, _, settle = det.power_up(120.0, 50.0)
     lines = [
         f"design: {det.name}",
         f"lens: {len(det.lens.facets)} facets, {det.beams().count} beams; mount "
         f"{det.mount.kind} at {det.mount.height:.2f} m",
         f"sensor: tau_T {s.thermal_time_constant:.3g} s, tau_E "
         f"{s.electrical_time_constant:.3g} s, |R_V(1 Hz)| {abs(s.responsivity(1.0)):.4g} V/W",
+        f"window: {lo:.3f} to {hi:.3f} V; power-up settling {settle:.1f} s",
         f"room: {env.air_c:.1f} degC; target: adult, tangential walks at {speed:g} m/s",
         "",
-        f"{'distance [m]':>12}  {'peak |P_eq| [nW]':>16}  {'peak |v_gate| [uV]':>18}",
+        f"{'distance [m]':>12}  {'peak |v_gate| [uV]':>18}  {'peak |v_c - rest| [V]':>21}"
+        f"  {'rail':>4}  {'detected':>8}",
     ]
-    peak_p = np.abs(res.equivalent_power).max(axis=1) * 1e9
-    peak_v = np.abs(res.gate_voltage).max(axis=1) * 1e6
-    lines += [
-        f"{d:12.1f}  {p:16.3f}  {v:18.1f}"
-        for d, p, v in zip(distances, peak_p, peak_v, strict=True)
-    ]
+    rest = det.rest_levels()[-1]
+    peak_v = np.abs(res.front.gate_voltage).max(axis=1) * 1e6
+    peak_c = np.abs(res.analog.comparator_input - rest).max(axis=1)
+    rail = np.any([p.any(axis=1) for p in res.analog.pinned], axis=0)
+    for d, v, c, r, det_ in zip(distances, peak_v, peak_c, rail, res.detected, strict=True):
+        lines.append(f"{d:12.1f}  {v:18.1f}  {c:21.3f}  {'yes' if r else 'no':>4}"
+                     f"  {'yes' if det_ else 'no':>8}")
+    lines += ["", "supply budget:", det.supply_budget().table()]
     return "\n".join(lines)
 
 
@@ -58,10 +64,10 @@ def build_parser() -> argparse.ArgumentParser:
     )
     sub = parser.add_subparsers(dest="command")
     sub.add_parser(
-        "frontend",
-        help="peak sensor signals of tangential demo walks",
-        description="Peak element power and gate voltage of tangential walks across the demo "
-        "detector's boresight.",
+        "demo",
+        help="tangential demo walks through the whole chain",
+        description="Tangential walks across the demo detector's boresight through the whole "
+        "chain (gate, comparator input, decision), power-up settling and supply budget.",
         epilog=_epilog(),
         formatter_class=argparse.RawDescriptionHelpFormatter,
     )
@@ -73,8 +79,8 @@ def main(argv=None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
     try:
-        if args.command in (None, "frontend"):
-            print(front_end_summary())
+        if args.command in (None, "demo"):
+            print(demo_summary())
             print("\n" + _epilog())
         return EXIT_OK
     except DesignError as exc:

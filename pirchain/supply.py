@@ -88,11 +88,11 @@ class SupplyBudget:
 
     def table(self) -> str:
         """Plain-text table in µA."""
-        rows = [f"{name:<40s} {cur * 1e6:10.3f} µA" for name, cur in self.items]
-        rows.append(f"{'total':<40s} {self.total * 1e6:10.3f} µA")
+        rows = [f"{name:<48s} {cur * 1e6:10.3f} µA" for name, cur in self.items]
+        rows.append(f"{'total':<48s} {self.total * 1e6:10.3f} µA")
         if self.limit is not None:
             flag = "  EXCEEDS LIMIT" if self.exceeds_limit else ""
-            rows.append(f"{'limit':<40s} {self.limit * 1e6:10.3f} µA{flag}")
+            rows.append(f"{'limit':<48s} {self.limit * 1e6:10.3f} µA{flag}")
         return "\n".join(rows)
 
 
