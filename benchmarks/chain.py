@@ -41,8 +41,9 @@ def main() -> None:
     ana = det.analog(gate, fs)
     t_analog = (time.perf_counter() - t0) / args.batch
 
-    batch = walks_from_paths([tangential_path(args.distance, 0.0, 1.0, length=6.0)] * args.batch,
-                             10.0, fs)
+    batch = walks_from_paths(
+        [tangential_path(args.distance, 0.0, 1.0, length=6.0)] * args.batch, 10.0, fs
+    )
     t0 = time.perf_counter()
     det.simulate(tgt, env, batch)
     t_full = (time.perf_counter() - t0) / args.batch
@@ -57,8 +58,10 @@ def main() -> None:
     print(f"pirchain per walk, whole chain (batched):   {t_full * 1e6:10.2f} us")
     print(f"speed ratio ngspice / pirchain (analog):    {t_spice / t_analog:10.0f}")
     print(f"speed ratio ngspice / pirchain (whole):     {t_spice / t_full:10.0f}")
-    print(f"max |difference| at the comparator input:   {diff * 1e3:10.4f} mV "
-          f"= {100 * diff / peak:.3f} % of the {peak:.3f} V peak")
+    print(
+        f"max |difference| at the comparator input:   {diff * 1e3:10.4f} mV "
+        f"= {100 * diff / peak:.3f} % of the {peak:.3f} V peak"
+    )
 
 
 if __name__ == "__main__":

@@ -47,8 +47,10 @@ def demo_summary(distances=(2.0, 4.0, 8.0, 12.0, 16.0, 20.0, 25.0, 30.0), speed=
     peak_c = np.abs(res.analog.comparator_input - rest).max(axis=1)
     rail = np.any([p.any(axis=1) for p in res.analog.pinned], axis=0)
     for d, v, c, r, det_ in zip(distances, peak_v, peak_c, rail, res.detected, strict=True):
-        lines.append(f"{d:12.1f}  {v:18.1f}  {c:21.3f}  {'yes' if r else 'no':>4}"
-                     f"  {'yes' if det_ else 'no':>8}")
+        lines.append(
+            f"{d:12.1f}  {v:18.1f}  {c:21.3f}  {'yes' if r else 'no':>4}"
+            f"  {'yes' if det_ else 'no':>8}"
+        )
     lines += ["", "supply budget:", det.supply_budget().table()]
     return "\n".join(lines)
 

@@ -425,7 +425,16 @@ def gate_voltage(sensor: PyroSensor, power, sample_rate: float, steady_start: bo
     numpy.ndarray
         Shape (walks, samples) [V], the change from the quiescent gate voltage.
     """
-    p_eq = sensor.equivalent_power(power)
+    return gate_voltage_from_power(
+        sensor, sensor.equivalent_power(power), sample_rate, steady_start
+    )
+
+
+def gate_voltage_from_power(
+    sensor: PyroSensor, p_eq, sample_rate: float, steady_start: bool = True
+):
+    """Gate voltage [V] from the equivalent gate power P_eq = Σ c_k P_k, shape (…, samples)."""
+    p_eq = np.asarray(p_eq, dtype=float)
     if steady_start:
         p_eq = p_eq - p_eq[..., :1]
     return signal.sosfilt(sensor.sos(sample_rate), p_eq, axis=-1)

@@ -1,0 +1,1 @@
+"""Analyses built on the chain: false triggers, detection range, coverage, sweeps."""

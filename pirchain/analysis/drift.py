@@ -1,0 +1,65 @@
+"""Deterministic disturbances through the whole chain: ambient ramps and HVAC cycling."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..disturbance import AmbientRamp, HvacCycle, hvac_power, ramp_power
+from ..logic import PulseLogic, run_logic
+from ..sensor import gate_voltage_from_power
+
+
+@dataclass(frozen=True)
+class DisturbanceResponse:
+    """Comparator input under a deterministic disturbance.
+
+    Attributes
+    ----------
+    time : numpy.ndarray
+        [s].
+    equivalent_power : numpy.ndarray
+        P_eq(t) [W].
+    comparator_input : numpy.ndarray
+        Absolute comparator input [V].
+    peak_excursion : float
+        Largest |v − rest| [V].
+    turn_ons : int
+        Output turn-ons the logic produced.
+    """
+
+    time: np.ndarray
+    equivalent_power: np.ndarray
+    comparator_input: np.ndarray
+    peak_excursion: float
+    turn_ons: int
+
+
+def _respond(detector, t, p_eq, sample_rate) -> DisturbanceResponse:
+    gate = gate_voltage_from_power(detector.sensor, p_eq[None, :], sample_rate)
+    ana = detector.analog(gate, sample_rate)
+    v = ana.comparator_input[0]
+    rest = detector.rest_levels()[-1]
+    _, dec = run_logic(v[None, :], sample_rate, detector.comparator, detector.logic or PulseLogic())
+    return DisturbanceResponse(
+        t, p_eq, v, float(np.max(np.abs(v - rest))), len(dec[0].on_intervals)
+    )
+
+
+def ramp_response(
+    detector, env, ramp: AmbientRamp, duration: float | None = None, sample_rate: float = 20.0
+) -> DisturbanceResponse:
+    """The chain's response to a uniform background ramp (leaks through the mismatch)."""
+    duration = ramp.start + ramp.duration + 60.0 if duration is None else duration
+    t = np.arange(int(math.ceil(duration * sample_rate))) / sample_rate
+    return _respond(detector, t, ramp_power(detector, env, ramp, t), sample_rate)
+
+
+def hvac_response(
+    detector, env, hvac: HvacCycle, cycles: int = 3, sample_rate: float = 20.0
+) -> DisturbanceResponse:
+    """The chain's response to ``cycles`` periods of warm-air bursts."""
+    t = np.arange(int(math.ceil(cycles * hvac.period * sample_rate))) / sample_rate
+    return _respond(detector, t, hvac_power(detector, env, hvac, t), sample_rate)

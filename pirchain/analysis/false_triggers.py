@@ -1,0 +1,231 @@
+"""How often a design fires with nobody there: analytic (Rice) and Monte Carlo.
+
+Analytic: the comparator-input PSD is the sum of every noise source and the stationary
+draught; Rice's formula gives the rate of up-crossings of the upper window edge and
+down-crossings of the lower one (the pulse rate); pulse counting, the count window and the
+blanking dead time are applied with a Poisson approximation
+(:func:`pirchain.rice.clustered_alarm_rate`). Monte Carlo: independent noise streams are
+synthesised chunk by chunk with stateful filters (seeded) and run through the real
+comparator and decision logic; output turn-ons are counted and every rate has an exact 95 %
+Poisson interval. Noise is added at the comparator input (superposition of the linear
+chain), valid while it stays far from the rails. The logic restarts at chunk boundaries
+(chunks of ≥ 10 min make the edge effect < (T_w + hold)/chunk).
+
+References
+----------
+.. [1] Rice, S. O., Bell Syst. Tech. J. 23, 282 (1944); 24, 46 (1945).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from dataclasses import dataclass
+
+import numpy as np
+from scipy import optimize
+
+from ..comparator import FixedWindow, LadderWindow, WindowComparator
+from ..disturbance import Draught, draught_parts, draught_transfer
+from ..errors import DesignError, check_positive
+from ..logic import PulseLogic, run_logic
+from ..noise import NoiseSource, band_grid, noise_sources, total_psd
+from ..rice import clustered_alarm_rate, poisson_interval, spectral_moment, upcrossing_rate
+from ..synthesis import NoiseSynthesizer
+
+HOUR, DAY, YEAR = 3600.0, 86400.0, 365.25 * 86400.0
+
+
+def comparator_sources(detector, env, draught: Draught | None = None) -> list[NoiseSource]:
+    """Noise sources plus the draught (as one shaped source) at the comparator input."""
+    src = noise_sources(detector, env.air_c + 273.15)
+    if draught is not None and draught.rms > 0:
+        diff, common = draught_parts(detector, env, draught)
+        level = 4 * draught.rms**2 * draught.correlation_time * (diff + common)
+        if level > 0:
+            src.append(NoiseSource("HVAC draught", level, draught_transfer(detector, draught)))
+    return src
+
+
+@dataclass(frozen=True)
+class RateEstimate:
+    """False-trigger rates.
+
+    Attributes
+    ----------
+    sigma : float
+        rms of the comparator-input noise [V].
+    nu0 : float
+        Zero up-crossing rate √(m2/m0) [s⁻¹].
+    pulse_rate : float
+        Rice rate of excursions outside the window [s⁻¹].
+    alarm_rate : float
+        Rate of output turn-ons with the pulse-count logic (Poisson approximation) [s⁻¹].
+    """
+
+    sigma: float
+    nu0: float
+    pulse_rate: float
+    alarm_rate: float
+
+    def per(self, unit: float = YEAR) -> float:
+        """Alarm rate per ``unit`` seconds."""
+        return self.alarm_rate * unit
+
+
+def _edges(detector):
+    lo, hi = detector.window()
+    rest = detector.rest_levels()[-1]
+    return hi - rest, rest - lo
+
+
+def analytic_rate(
+    detector, env, draught: Draught | None = None, sources=None, f=None
+) -> RateEstimate:
+    """Rice pulse rate and the pulse-count alarm rate of a design."""
+    sources = comparator_sources(detector, env, draught) if sources is None else sources
+    f = band_grid(1e-3, 1e3, 6000) if f is None else f
+    psd = total_psd(sources, f)
+    m0, m2 = spectral_moment(f, psd, 0), spectral_moment(f, psd, 2)
+    u_hi, u_lo = _edges(detector)
+    pulse = float(upcrossing_rate(u_hi, m0, m2) + upcrossing_rate(u_lo, m0, m2))
+    logic = detector.logic or PulseLogic()
+    mean_width = 1.0 / (4.0 * math.sqrt(m2 / m0))  # crude: a quarter of a mean period
+    alarm = clustered_alarm_rate(
+        pulse, logic.pulses_required, logic.count_window, logic.blanking + mean_width
+    )
+    return RateEstimate(math.sqrt(m0), math.sqrt(m2 / m0), pulse, alarm)
+
+
+@dataclass(frozen=True)
+class MonteCarloRate:
+    """Counted false triggers.
+
+    Attributes
+    ----------
+    duration : float
+        Simulated time over all streams [s].
+    pulses, alarms : int
+        Comparator pulses and output turn-ons counted.
+    pulse_interval, alarm_interval : tuple of float
+        95 % intervals of the rates [s⁻¹].
+    """
+
+    duration: float
+    pulses: int
+    alarms: int
+    pulse_interval: tuple[float, float]
+    alarm_interval: tuple[float, float]
+
+    @property
+    def pulse_rate(self) -> float:
+        """[s⁻¹]."""
+        return self.pulses / self.duration
+
+    @property
+    def alarm_rate(self) -> float:
+        """[s⁻¹]."""
+        return self.alarms / self.duration
+
+
+def monte_carlo_rate(
+    detector,
+    env,
+    duration: float,
+    draught: Draught | None = None,
+    seed: int = 0,
+    streams: int = 8,
+    chunk: float = 900.0,
+    sample_rate: float = 100.0,
+    sources=None,
+    min_share: float = 1e-4,
+    progress=None,
+) -> MonteCarloRate:
+    """Count false triggers over ``duration`` seconds of simulated time (all streams).
+
+    Parameters
+    ----------
+    duration : float
+        Total simulated time, split over ``streams`` parallel realisations [s].
+    seed : int
+        Seed; the same seed gives the same counts.
+    chunk : float
+        Length of each chunk per stream [s].
+    min_share : float
+        Sources below this share of the total variance are not synthesised (speed).
+    progress : callable, optional
+        Called with the fraction done after every chunk.
+    """
+    check_positive("duration", duration, "s")
+    sources = comparator_sources(detector, env, draught) if sources is None else sources
+    f = band_grid(1e-3, 1e3, 3000)
+    var = np.array([np.trapezoid(s.psd(f), f) for s in sources])
+    keep = [s for s, v in zip(sources, var, strict=True) if v >= min_share * var.sum()]
+    synth = NoiseSynthesizer(keep, sample_rate, streams, seed)
+    rest = detector.rest_levels()[-1]
+    logic = detector.logic or PulseLogic()
+    logic = dataclasses.replace(logic, daylight=None)
+    per_stream = duration / streams
+    n_chunks = max(1, int(math.ceil(per_stream / chunk)))
+    n = int(round(per_stream / n_chunks * sample_rate))
+    warm = int(min(60.0, per_stream / 10) * sample_rate)
+    synth.next(warm)  # start the filters in their stationary state
+    pulses = alarms = 0
+    for c in range(n_chunks):
+        v = rest + synth.next(n)
+        p, dec = run_logic(v, sample_rate, detector.comparator, logic)
+        pulses += p.start.size
+        alarms += sum(len(d.on_intervals) for d in dec)
+        if progress is not None:
+            progress((c + 1) / n_chunks)
+    total = n_chunks * n / sample_rate * streams
+    return MonteCarloRate(
+        total, pulses, alarms, poisson_interval(pulses, total), poisson_interval(alarms, total)
+    )
+
+
+def with_threshold(detector, threshold: float):
+    """The design with its window replaced by a fixed ±``threshold`` around the rest level."""
+    rest = detector.rest_levels()[-1]
+    comp = WindowComparator(
+        FixedWindow(rest, threshold), min(detector.comparator.hysteresis, 0.5 * threshold)
+    )
+    return dataclasses.replace(detector, comparator=comp)
+
+
+def threshold_for_rate(detector, env, target_rate: float, draught: Draught | None = None):
+    """Threshold (symmetric half-width) whose analytic alarm rate equals ``target_rate``.
+
+    Returns
+    -------
+    threshold : float
+        [V].
+    sensitivity_resistor : float or None
+        The ladder's middle resistor that gives this threshold (None if the window does not
+        come from a ladder) [Ω].
+    """
+    check_positive("target_rate", target_rate, "/s")
+    sources = comparator_sources(detector, env, draught)
+    sigma = analytic_rate(detector, env, sources=sources).sigma
+
+    def gap(log_th):
+        est = analytic_rate(with_threshold(detector, math.exp(log_th)), env, sources=sources)
+        return math.log(max(est.alarm_rate, 1e-300)) - math.log(target_rate)
+
+    lo, hi = math.log(0.5 * sigma), math.log(40.0 * sigma)
+    if gap(lo) < 0:
+        raise DesignError("target_rate", target_rate, "a rate below that of a 0.5 σ threshold")
+    th = math.exp(optimize.brentq(gap, lo, hi, xtol=1e-6))
+    return th, sensitivity_resistor_for(detector, th)
+
+
+def sensitivity_resistor_for(detector, threshold: float):
+    """Middle ladder resistor that sets the half-width ``threshold`` [Ω], or None."""
+    win = detector.comparator.window
+    if not isinstance(win, LadderWindow):
+        return None
+    v, rt, rb = win.supply, win.r_top, win.r_bottom
+    # half-width = V R_m / (2 ΣR) → R_m = 2 th (R_t + R_b) / (V − 2 th)
+    if 2 * threshold >= v:
+        return None
+    return 2 * threshold * (rt + rb) / (v - 2 * threshold)
