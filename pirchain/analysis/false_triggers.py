@@ -73,6 +73,15 @@ class RateEstimate:
         return self.alarm_rate * unit
 
 
+def format_rate(per_year: float) -> str:
+    """Human form of a rate per year ("< 1e-6 per year" below that)."""
+    if per_year < 1e-6:
+        return "< 1e-6 per year"
+    if per_year < 365.25:
+        return f"{per_year:.3g} per year"
+    return f"{per_year / 365.25:.3g} per day"
+
+
 def _edges(detector):
     lo, hi = detector.window()
     rest = detector.rest_levels()[-1]
