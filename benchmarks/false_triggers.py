@@ -32,8 +32,16 @@ def main() -> None:
     src = comparator_sources(det, env, dr)
     dur = args.hours * 3600.0
     t0 = time.perf_counter()
-    mc = monte_carlo_rate(det, env, dur, draught=dr, seed=args.seed, streams=args.streams,
-                          sample_rate=args.rate, sources=src)
+    mc = monte_carlo_rate(
+        det,
+        env,
+        dur,
+        draught=dr,
+        seed=args.seed,
+        streams=args.streams,
+        sample_rate=args.rate,
+        sources=src,
+    )
     t_mc = time.perf_counter() - t0
     samples = mc.duration * args.rate
     sos = tf_sos(det.transfer_function(True), args.rate)
@@ -42,12 +50,18 @@ def main() -> None:
     signal.sosfilt(sos, x, axis=-1)
     t_floor = time.perf_counter() - t0
     est = analytic_rate(det, env, dr, sources=src)
-    print(f"simulated {mc.duration / 3600:.1f} h of noise + draught at {args.rate:g} Hz "
-          f"({samples:.3g} samples, {args.streams} streams)")
-    print(f"Monte Carlo: {t_mc:.2f} s = {samples / t_mc:.3g} samples/s; pulses {mc.pulses}, "
-          f"turn-ons {mc.alarms}")
-    print(f"bare sosfilt ({sos.shape[0]} sections) over the same samples: {t_floor:.2f} s "
-          f"= {samples / t_floor:.3g} samples/s")
+    print(
+        f"simulated {mc.duration / 3600:.1f} h of noise + draught at {args.rate:g} Hz "
+        f"({samples:.3g} samples, {args.streams} streams)"
+    )
+    print(
+        f"Monte Carlo: {t_mc:.2f} s = {samples / t_mc:.3g} samples/s; pulses {mc.pulses}, "
+        f"turn-ons {mc.alarms}"
+    )
+    print(
+        f"bare sosfilt ({sos.shape[0]} sections) over the same samples: {t_floor:.2f} s "
+        f"= {samples / t_floor:.3g} samples/s"
+    )
     print(f"Monte Carlo throughput = {t_floor / t_mc:.2f} x bare filtering")
     print(f"analytic: sigma {est.sigma * 1e3:.3f} mV, alarm rate {est.per(86400):.3g} /day")
 

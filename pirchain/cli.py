@@ -65,12 +65,15 @@ def demo_summary(distances=(2.0, 4.0, 8.0, 12.0, 16.0, 20.0, 25.0, 30.0), speed=
     sources = comparator_sources(det, env, draught)
     est = analytic_rate(det, env, draught, sources=sources)
     th, r_sens = threshold_for_rate(det, env, 1.0 / YEAR, draught)
-    lines += ["", "noise at the comparator input (with a light HVAC draught):",
-              noise_budget(sources, (1e-3, 1e3)).table(),
-              f"false triggers (Rice + counting): {format_rate(est.per(YEAR))} at the "
-              f"{det.comparator.threshold * 1e3:.0f} mV threshold",
-              f"one false trigger per year at a {th * 1e3:.1f} mV threshold"
-              + (f" (sensitivity resistor {r_sens / 1e3:.1f} kOhm)" if r_sens else "")]
+    lines += [
+        "",
+        "noise at the comparator input (with a light HVAC draught):",
+        noise_budget(sources, (1e-3, 1e3)).table(),
+        f"false triggers (Rice + counting): {format_rate(est.per(YEAR))} at the "
+        f"{det.comparator.threshold * 1e3:.0f} mV threshold",
+        f"one false trigger per year at a {th * 1e3:.1f} mV threshold"
+        + (f" (sensitivity resistor {r_sens / 1e3:.1f} kOhm)" if r_sens else ""),
+    ]
     lines += ["", "supply budget:", det.supply_budget().table()]
     return "\n".join(lines)
 

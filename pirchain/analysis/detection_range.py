@@ -15,7 +15,7 @@ import numpy as np
 
 from ..errors import check_positive, check_range
 from .false_triggers import comparator_sources
-from .walk_tests import beam_pitch, detect, test_walks
+from .walk_tests import beam_pitch, detect, make_walks
 
 
 @dataclass(frozen=True)
@@ -50,13 +50,33 @@ class RangeResult:
     gaps: tuple[tuple[float, float], ...]
 
 
-def probability_of_detection(detector, target, env, distances, bearing_deg=0.0, speed=1.0,
-                             kind="tangential", trials=16, seed=0, noise=True, length=3.0,
-                             sample_rate=100.0, sources=None):
-    """P(detect) for each broadcast combination of distance, bearing and speed."""
-    d, b, v = np.broadcast_arrays(np.atleast_1d(np.asarray(distances, float)),
-                                  np.asarray(bearing_deg, float), np.asarray(speed, float))
-    walks = test_walks(d, b, v, kind, length, trials, beam_pitch(detector), seed)
+def probability_of_detection(
+    detector,
+    target,
+    env,
+    distances,
+    bearing_deg=0.0,
+    speed=1.0,
+    kind="tangential",
+    trials=16,
+    seed=0,
+    noise=True,
+    length=3.0,
+    sample_rate=100.0,
+    sources=None,
+    jitter=None,
+):
+    """P(detect) for each broadcast combination of distance, bearing and speed.
+
+    ``jitter`` is the angular spread of start positions [rad]; default one beam pitch.
+    """
+    d, b, v = np.broadcast_arrays(
+        np.atleast_1d(np.asarray(distances, float)),
+        np.asarray(bearing_deg, float),
+        np.asarray(speed, float),
+    )
+    jit = beam_pitch(detector) if jitter is None else jitter
+    walks = make_walks(d, b, v, kind, length, trials, jit, seed)
     src = None
     if noise:
         src = comparator_sources(detector, env) if sources is None else sources
@@ -69,19 +89,44 @@ def _farthest(dist, prob, level):
     return int(ok[-1]) if ok.size else -1
 
 
-def detection_range(detector, target, env, bearing_deg=0.0, speed=1.0, kind="tangential",
-                    level=0.9, d_min=0.5, d_max=30.0, step=1.0, trials=16, seed=0,
-                    noise=True, refine=4, sample_rate=100.0) -> RangeResult:
+def detection_range(
+    detector,
+    target,
+    env,
+    bearing_deg=0.0,
+    speed=1.0,
+    kind="tangential",
+    level=0.9,
+    d_min=0.5,
+    d_max=30.0,
+    step=1.0,
+    trials=16,
+    seed=0,
+    noise=True,
+    refine=4,
+    sample_rate=100.0,
+    jitter=None,
+) -> RangeResult:
     """Range on one bearing (grid + bisection), with the noise-free range beside it."""
     check_range("level", level, 0.01, 1.0)
     check_positive("step", step, "m")
     grid = np.arange(d_min, d_max + 1e-9, step)
     src = comparator_sources(detector, env) if noise else None
-    kw = dict(bearing_deg=bearing_deg, speed=speed, kind=kind, trials=trials, seed=seed,
-              sample_rate=sample_rate)
+    kw = dict(
+        bearing_deg=bearing_deg,
+        speed=speed,
+        kind=kind,
+        trials=trials,
+        seed=seed,
+        sample_rate=sample_rate,
+        jitter=jitter,
+    )
     p_free = probability_of_detection(detector, target, env, grid, noise=False, **kw)
-    p = probability_of_detection(detector, target, env, grid, noise=noise, sources=src, **kw) \
-        if noise else p_free
+    p = (
+        probability_of_detection(detector, target, env, grid, noise=noise, sources=src, **kw)
+        if noise
+        else p_free
+    )
 
     def refined(prob, use_noise):
         k = _farthest(grid, prob, level)
@@ -92,8 +137,9 @@ def detection_range(detector, target, env, bearing_deg=0.0, speed=1.0, kind="tan
         a, b = grid[k], grid[k + 1]
         for _ in range(refine):
             mid = 0.5 * (a + b)
-            pm = probability_of_detection(detector, target, env, [mid], noise=use_noise,
-                                          sources=src, **kw)[0]
+            pm = probability_of_detection(
+                detector, target, env, [mid], noise=use_noise, sources=src, **kw
+            )[0]
             a, b = (mid, b) if pm >= level else (a, mid)
         return float(a)
 
@@ -107,8 +153,18 @@ def detection_range(detector, target, env, bearing_deg=0.0, speed=1.0, kind="tan
         if p[i] >= level and start is not None:
             gaps.append((float(start), float(grid[i - 1])))
             start = None
-    return RangeResult(float(bearing_deg), kind, float(speed), float(level), grid, p, p_free,
-                       rng, rng_free, tuple(gaps))
+    return RangeResult(
+        float(bearing_deg),
+        kind,
+        float(speed),
+        float(level),
+        grid,
+        p,
+        p_free,
+        rng,
+        rng_free,
+        tuple(gaps),
+    )
 
 
 def range_by_bearing(detector, target, env, bearings_deg, **kw) -> list[RangeResult]:

@@ -49,14 +49,34 @@ class WalkProtocol:
 
 
 PROTOCOLS = {
-    "lighting": WalkProtocol("lighting-sensor walk test", (1.22,), 3.0, 0.91,
-                             "NEMA WD 7-2011: 1.22 ± 0.15 m/s, cells <= 0.91 m (medium)"),
-    "intrusion_grade2": WalkProtocol("intrusion detector, grade 2", (0.3, 1.0, 2.0), 3.0, 1.0,
-                                     "EN 50131-2-2 speeds, from memory (low confidence)"),
-    "intrusion_grade3": WalkProtocol("intrusion detector, grade 3", (0.2, 1.0, 2.5), 3.0, 1.0,
-                                     "EN 50131-2-2 speeds, from memory (low confidence)"),
-    "intrusion_grade4": WalkProtocol("intrusion detector, grade 4", (0.1, 1.0, 3.0), 3.0, 1.0,
-                                     "EN 50131-2-2 speeds, from memory (low confidence)"),
+    "lighting": WalkProtocol(
+        "lighting-sensor walk test",
+        (1.22,),
+        3.0,
+        0.91,
+        "NEMA WD 7-2011: 1.22 ± 0.15 m/s, cells <= 0.91 m (medium)",
+    ),
+    "intrusion_grade2": WalkProtocol(
+        "intrusion detector, grade 2",
+        (0.3, 1.0, 2.0),
+        3.0,
+        1.0,
+        "EN 50131-2-2 speeds, from memory (low confidence)",
+    ),
+    "intrusion_grade3": WalkProtocol(
+        "intrusion detector, grade 3",
+        (0.2, 1.0, 2.5),
+        3.0,
+        1.0,
+        "EN 50131-2-2 speeds, from memory (low confidence)",
+    ),
+    "intrusion_grade4": WalkProtocol(
+        "intrusion detector, grade 4",
+        (0.1, 1.0, 3.0),
+        3.0,
+        1.0,
+        "EN 50131-2-2 speeds, from memory (low confidence)",
+    ),
 }
 
 
@@ -105,8 +125,16 @@ class WalkSet:
     length: float
 
 
-def test_walks(distance, bearing_deg, speed, kind: str = "tangential", length: float = 3.0,
-               trials: int = 1, jitter: float = 0.0, seed: int = 0) -> WalkSet:
+def make_walks(
+    distance,
+    bearing_deg,
+    speed,
+    kind: str = "tangential",
+    length: float = 3.0,
+    trials: int = 1,
+    jitter: float = 0.0,
+    seed: int = 0,
+) -> WalkSet:
     """Tangential or radial walks at given distances, bearings and speeds.
 
     All of ``distance``, ``bearing_deg`` and ``speed`` broadcast together; each combination
@@ -116,8 +144,9 @@ def test_walks(distance, bearing_deg, speed, kind: str = "tangential", length: f
     """
     if kind not in ("tangential", "radial"):
         raise DesignError("walk.kind", kind, "'tangential' or 'radial'")
-    d, b, v = np.broadcast_arrays(np.asarray(distance, float), np.asarray(bearing_deg, float),
-                                  np.asarray(speed, float))
+    d, b, v = np.broadcast_arrays(
+        np.asarray(distance, float), np.asarray(bearing_deg, float), np.asarray(speed, float)
+    )
     d, b, v = (np.repeat(x.ravel(), trials) for x in (d, b, v))
     if np.any(d <= 0) or np.any(v <= 0):
         raise DesignError("walk", "distance/speed", "distances and speeds > 0")
@@ -130,9 +159,18 @@ def test_walks(distance, bearing_deg, speed, kind: str = "tangential", length: f
     return WalkSet(centre, head, v, float(length))
 
 
-def detect(detector: Detector, target: Target, env: Environment, walks: WalkSet,
-           sample_rate: float = 100.0, noise_sources=None, seed: int = 0, chunk: int = 256,
-           tail: float = 2.0, progress=None):
+def detect(
+    detector: Detector,
+    target: Target,
+    env: Environment,
+    walks: WalkSet,
+    sample_rate: float = 100.0,
+    noise_sources=None,
+    seed: int = 0,
+    chunk: int = 256,
+    tail: float = 2.0,
+    progress=None,
+):
     """Run test walks through the whole chain in chunks (bounded memory).
 
     Parameters
@@ -161,8 +199,9 @@ def detect(detector: Detector, target: Target, env: Environment, walks: WalkSet,
         v = walks.speed[sl]
         dur = walks.length / v.min() + tail
         start = walks.centre[sl] - 0.5 * walks.length * walks.heading[sl]
-        batch = straight_walks(start, walks.heading[sl], v, dur, sample_rate, start_times=0.5,
-                               lengths=walks.length)
+        batch = straight_walks(
+            start, walks.heading[sl], v, dur, sample_rate, start_times=0.5, lengths=walks.length
+        )
         power = detector.element_power(target, env, batch, beams)
         gate = gate_voltage(detector.sensor, power, sample_rate)
         vc = detector.analog(gate, sample_rate).comparator_input

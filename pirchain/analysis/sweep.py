@@ -1,0 +1,251 @@
+"""Parameter sweeps and the range / false-trigger trade-off.
+
+A :class:`Study` bundles a detector with the scene and analysis settings. Any value in it is
+addressed by a dotted path with list indices, e.g. ``detector.comparator.window.r_middle``
+(the sensitivity resistor of a ladder window), ``detector.follower.source_resistance``,
+``detector.stages[0].c1``, ``detector.stages[1].rf``, ``environment.air_c``, ``speed`` or
+``target`` (a preset name). Each point gives tangential and radial range, the false-trigger
+rate, the power-up settling time and the supply current.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import itertools
+import re
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..chain import Detector
+from ..disturbance import Draught
+from ..errors import DesignError, ValidityWarning
+from ..scene import Environment, Target, adult, target_preset
+from .detection_range import detection_range
+from .false_triggers import YEAR, analytic_rate
+
+_STEP = re.compile(r"^([A-Za-z_][A-Za-z0-9_]*)(?:\[(\d+)\])?$")
+
+
+@dataclass(frozen=True)
+class Study:
+    """What a sweep point evaluates.
+
+    Attributes
+    ----------
+    detector : Detector
+    environment : Environment
+    target : Target
+    speed : float
+        Walking speed [m s⁻¹].
+    bearing_deg : float
+        Bearing of the range walks [°].
+    draught : Draught or None
+        Stationary disturbance for the false-trigger rate.
+    level : float
+        Required P(detect).
+    trials : int
+        Walks per distance.
+    d_max, step : float
+        Range grid [m].
+    seed : int
+    noise : bool
+        Noise in the range walks.
+    settle_duration : float
+        Power-up simulation length [s].
+    """
+
+    detector: Detector
+    environment: Environment = field(default_factory=Environment)
+    target: Target = field(default_factory=adult)
+    speed: float = 1.0
+    bearing_deg: float = 0.0
+    draught: Draught | None = field(default_factory=Draught)
+    level: float = 0.9
+    trials: int = 8
+    d_max: float = 30.0
+    step: float = 1.0
+    seed: int = 0
+    noise: bool = True
+    settle_duration: float = 120.0
+
+
+def get_path(obj, path: str):
+    """Value at a dotted path (with ``[i]`` indices)."""
+    for part in path.split("."):
+        m = _STEP.match(part)
+        if m is None or not hasattr(obj, m.group(1)):
+            raise DesignError("sweep.path", path, f"an existing field (no '{part}' here)")
+        obj = getattr(obj, m.group(1))
+        if m.group(2) is not None:
+            obj = obj[int(m.group(2))]
+    return obj
+
+
+def set_path(obj, path: str, value):
+    """A copy of ``obj`` with the value at ``path`` replaced (frozen dataclasses rebuilt)."""
+    head, _, rest = path.partition(".")
+    m = _STEP.match(head)
+    if m is None or not dataclasses.is_dataclass(obj) or not hasattr(obj, m.group(1)):
+        raise DesignError("sweep.path", path, f"an existing field (no '{head}' here)")
+    name, idx = m.group(1), m.group(2)
+    if name == "target" and isinstance(value, str) and not rest:
+        value = target_preset(value)
+    current = getattr(obj, name)
+    if idx is not None:
+        items = list(current)
+        i = int(idx)
+        if i >= len(items):
+            raise DesignError("sweep.path", path, f"an index below {len(items)}")
+        items[i] = set_path(items[i], rest, value) if rest else value
+        new = tuple(items)
+    else:
+        new = set_path(current, rest, value) if rest else value
+    return dataclasses.replace(obj, **{name: new})
+
+
+def evaluate(study: Study) -> dict:
+    """Tangential and radial range, false triggers, settling time and supply current."""
+    det, env, tgt = study.detector, study.environment, study.target
+    kw = dict(
+        speed=study.speed,
+        level=study.level,
+        d_max=study.d_max,
+        step=study.step,
+        trials=study.trials,
+        seed=study.seed,
+        noise=study.noise,
+    )
+    tang = detection_range(det, tgt, env, study.bearing_deg, kind="tangential", **kw)
+    rad = detection_range(det, tgt, env, study.bearing_deg, kind="radial", **kw)
+    est = analytic_rate(det, env, study.draught)
+    import warnings
+
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ValidityWarning)
+        _, _, settle = det.power_up(study.settle_duration, 50.0)
+        supply = det.supply_budget().total
+    return {
+        "tangential_range_m": tang.range,
+        "tangential_range_noise_free_m": tang.range_noise_free,
+        "radial_range_m": rad.range,
+        "false_triggers_per_year": est.alarm_rate * YEAR,
+        "threshold_v": det.comparator.threshold,
+        "settling_s": settle,
+        "supply_a": supply,
+        "gaps": tang.gaps,
+    }
+
+
+@dataclass(frozen=True)
+class SweepTable:
+    """Rows of a sweep: the swept values and the evaluated figures."""
+
+    paths: tuple[str, ...]
+    rows: tuple[dict, ...]
+
+    def column(self, name: str) -> np.ndarray:
+        """One column as an array."""
+        return np.array([r[name] for r in self.rows])
+
+    def to_text(self) -> str:
+        """Plain-text table."""
+        head = [p.split(".")[-1] for p in self.paths] + [
+            "tang. range m",
+            "radial m",
+            "false/yr",
+            "settle s",
+            "supply µA",
+        ]
+        lines = ["  ".join(f"{h:>14s}" for h in head)]
+        for r in self.rows:
+            vals = [_fmt(r[p]) for p in self.paths] + [
+                f"{r['tangential_range_m']:.2f}",
+                f"{r['radial_range_m']:.2f}",
+                f"{r['false_triggers_per_year']:.3g}",
+                f"{r['settling_s']:.1f}",
+                f"{r['supply_a'] * 1e6:.1f}",
+            ]
+            lines.append("  ".join(f"{v:>14s}" for v in vals))
+        return "\n".join(lines)
+
+
+def _fmt(v) -> str:
+    if isinstance(v, float):
+        return f"{v:.4g}"
+    return getattr(v, "name", str(v))
+
+
+def sweep(
+    study: Study, path: str, values, path2: str | None = None, values2=None, progress=None
+) -> SweepTable:
+    """Evaluate the study at every value of one parameter, or on a grid of two."""
+    get_path(study, path)
+    grid = [(v,) for v in values]
+    paths = (path,)
+    if path2 is not None:
+        get_path(study, path2)
+        grid = list(itertools.product(values, values2))
+        paths = (path, path2)
+    rows = []
+    for i, combo in enumerate(grid):
+        s = study
+        for p, v in zip(paths, combo, strict=True):
+            s = set_path(s, p, v)
+        row = evaluate(s)
+        row.update({p: v for p, v in zip(paths, combo, strict=True)})
+        rows.append(row)
+        if progress is not None:
+            progress((i + 1) / len(grid))
+    return SweepTable(paths, tuple(rows))
+
+
+@dataclass(frozen=True)
+class TradeOff:
+    """Range against false triggers across one parameter.
+
+    Attributes
+    ----------
+    table : SweepTable
+    budget_per_year : float
+    best : int or None
+        Row with the most tangential range whose false-trigger rate is within the budget.
+    """
+
+    table: SweepTable
+    budget_per_year: float
+    best: int | None
+
+    @property
+    def best_value(self):
+        """Parameter value of the chosen row (None if no row meets the budget)."""
+        return None if self.best is None else self.table.rows[self.best][self.table.paths[0]]
+
+
+def trade_off(
+    study: Study, path: str, values, budget_per_year: float = 1.0, progress=None
+) -> TradeOff:
+    """Sweep ``path`` and pick the value with the most range within the false-trigger budget."""
+    table = sweep(study, path, values, progress=progress)
+    rng = table.column("tangential_range_m")
+    ok = table.column("false_triggers_per_year") <= budget_per_year
+    best = int(np.flatnonzero(ok)[np.argmax(rng[ok])]) if ok.any() else None
+    return TradeOff(table, float(budget_per_year), best)
+
+
+def log_values(low: float, high: float, n: int) -> list[float]:
+    """n log-spaced values (for resistor sweeps)."""
+    return [float(v) for v in np.geomspace(low, high, n)] if n > 1 else [float(low)]
+
+
+__all__ = [
+    "Study",
+    "SweepTable",
+    "TradeOff",
+    "evaluate",
+    "get_path",
+    "log_values",
+    "set_path",
+    "sweep",
+    "trade_off",
+]
