@@ -33,8 +33,18 @@ def main() -> None:
     det, env = demo_detector(), demo_environment()
     tracemalloc.start()
     t0 = time.perf_counter()
-    m = top_view(det, adult(), env, "tangential", 1.22, args.cell, args.x_max, trials=args.trials,
-                 noise=args.noise, chunk=args.chunk)
+    m = top_view(
+        det,
+        adult(),
+        env,
+        "tangential",
+        1.22,
+        args.cell,
+        args.x_max,
+        trials=args.trials,
+        noise=args.noise,
+        chunk=args.chunk,
+    )
     elapsed = time.perf_counter() - t0
     _, peak = tracemalloc.get_traced_memory()
     tracemalloc.stop()
@@ -47,12 +57,16 @@ def main() -> None:
         signal.sosfilt(sos, x, axis=-1)
     floor = time.perf_counter() - t1
     rss = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
-    print(f"coverage map: {m.probability.shape[1]} x {m.probability.shape[0]} cells, "
-          f"{m.walks} walks of {n_samples} samples, chunks of {args.chunk}"
-          f"{', with noise' if args.noise else ''}")
+    print(
+        f"coverage map: {m.probability.shape[1]} x {m.probability.shape[0]} cells, "
+        f"{m.walks} walks of {n_samples} samples, chunks of {args.chunk}"
+        f"{', with noise' if args.noise else ''}"
+    )
     print(f"time: {elapsed:.2f} s ({elapsed / m.walks * 1e3:.3f} ms per walk)")
-    print(f"bare sosfilt floor ({sos.shape[0]} sections, same samples): {floor:.3f} s; "
-          f"ratio {elapsed / floor:.0f}")
+    print(
+        f"bare sosfilt floor ({sos.shape[0]} sections, same samples): {floor:.3f} s; "
+        f"ratio {elapsed / floor:.0f}"
+    )
     print(f"peak traced memory: {peak / 2**20:.1f} MiB; max RSS of the process: {rss:.0f} MiB")
     print(f"mean P(detect) over the map: {m.probability.mean():.3f}")
 

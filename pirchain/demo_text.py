@@ -1,0 +1,136 @@
+"""The built-in demo design as a design file.
+
+Scenario (invented for the demo): *Marrowby Parish Reading Room* wants its lights to follow
+occupancy. The fictional "Tern-2" wall sensor is mounted 2.2 m high on the short wall of the
+room, looking along its length; readers walk between the shelves at about 1 m/s. It runs from
+a 3.3 V rail that a small mains supply provides (budget 150 µA). Every number is a plausible
+demo value, not data about any real product.
+"""
+
+DEMO_TOML = """\
+# pirchain design file: the built-in demo (an invented product in an invented room).
+# Values take SI prefixes and IEC 60062 codes ("47k", "4k7", "2u2", "75G"); temperatures in °C.
+
+[design]
+name = "Tern-2 reading-room wall sensor (demo)"
+
+[lens]
+layout = "wall"          # "wall" (tiers), "ceiling" (rings) or "table" (explicit facets)
+fov_deg = 110
+name = "Tern-2 four-tier wall lens"
+tiers = [
+  { elevation_deg = -5.0,  count = 9, focal_length = "22mm", area = "30u" },
+  { elevation_deg = -13.0, count = 7, focal_length = "18mm", area = "22u" },
+  { elevation_deg = -27.0, count = 5, focal_length = "13mm", area = "15u" },
+  { elevation_deg = -52.0, count = 3, focal_length = "9mm",  area = "10u" },
+]
+
+[mount]
+kind = "wall"
+height = "2.2m"
+tilt_deg = 0
+
+[sensor]
+route = "material"       # or "datasheet"
+material = "LiTaO3"
+layout = "dual"
+element_width = "1mm"
+element_height = "2mm"
+element_spacing = "2mm"
+thickness = "25u"
+absorptance = 0.8
+thermal_time_constant = "350m"
+gate_resistance = "60G"
+input_capacitance = "3p"
+mismatch = 0.05
+
+[follower]
+idss = "400u"
+pinch_off = 1.2
+source_resistance = "47k"
+e_n = "15n"
+i_n = "200a"
+
+[opamp]                  # default op-amp of every stage
+gbw = "100k"
+v_low = 0.02
+v_high = 3.28
+quiescent_current = "7u"
+e_n = "50n"
+i_n = "1f"
+
+[[stages]]
+type = "non_inverting_band_pass"
+name = "stage 1 (non-inverting)"
+r1 = "10k"
+c1 = "22u"
+rf = "560k"
+cf = "27n"
+v_ref = 0
+
+[[stages]]
+type = "inverting_band_pass"
+name = "stage 2 (inverting)"
+r1 = "22k"
+c1 = "10u"
+rf = "1M"
+cf = "15n"
+v_ref = "reference"      # the supply's reference divider
+
+[comparator]
+window = "ladder"        # "ladder", "fixed" or "mapped"
+r_top = "1M"
+r_middle = "470k"        # the sensitivity resistor
+r_bottom = "1M"
+hysteresis = "20m"
+
+[logic]
+rate = 50
+pulses_required = 2
+count_window = 4
+blanking = "300m"
+hold = 60
+retrigger = true
+lockout = 2
+
+[logic.daylight]
+r_fixed = "100k"
+r_ldr_10lux = "1M"
+gamma = 0.7
+v_on = 1.65
+hysteresis = 0.2
+
+[supply]
+voltage = 3.3
+reference_top = "1M"
+reference_bottom = "1M"
+logic_current = "5u"
+limit = "150u"
+
+[scene]
+target = "adult"
+speed = 1.0
+air_c = 21.0
+
+[draught]
+rms = 0.01
+correlation_time = 5
+beam_correlation = 0.7
+fov_fraction = 0.2
+
+[analysis]
+sample_rate = 100
+level = 0.9
+trials = 4
+d_max = 30
+step = 1.5
+bearings = [-50, -30, -15, 0, 15, 30, 50]
+seed = 1
+walk_distance = 8
+sensitivity_path = "detector.comparator.window.r_middle"
+sensitivity_values = ["62k", "91k", "150k", "270k", "470k", "820k"]
+false_trigger_budget = 1.0
+coverage_cell = 1.0
+coverage_x_max = 16
+coverage_trials = 2
+"""

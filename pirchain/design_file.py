@@ -1,0 +1,622 @@
+"""Design files (TOML): loading with clear errors, and the objects they describe.
+
+Every key is checked against a schema: an unknown key (with a did-you-mean), a wrong type or
+unit, a missing required key or an out-of-range value raises :class:`DesignError` naming the
+key path, the value and what was expected. The section layout is shown by the built-in demo
+(``pirchain demo-design -o my.toml``).
+"""
+
+from __future__ import annotations
+
+import difflib
+import math
+import tomllib
+from dataclasses import dataclass, field
+
+from .analysis.sweep import Study
+from .chain import Detector
+from .comparator import FixedWindow, LadderWindow, MappedWindow, WindowComparator
+from .disturbance import Draught
+from .errors import DesignError
+from .frontend import STAGE_TYPES, Jfet, OpAmp, SourceFollower
+from .logic import DaylightInhibit, PulseLogic
+from .optics import Facet, Lens, LensRing, LensTier, Mount, ceiling_lens, wall_lens
+from .scene import TARGET_PRESETS, Environment, target_preset
+from .sensor import MATERIALS, PyroSensor, dual_elements, quad_elements
+from .supply import PowerSupply
+from .units import parse_celsius, parse_quantity
+
+REQ = object()  # marks a required key
+
+
+def _q(unit=None, default=REQ):
+    return ("q", unit, default)
+
+
+def _choice(options, default=REQ):
+    return ("choice", tuple(options), default)
+
+
+TIER = {
+    "elevation_deg": _q(),
+    "count": ("int", None, REQ),
+    "focal_length": _q("m"),
+    "area": _q("m2"),
+    "transmittance": _q(None, 0.65),
+}
+RING = {
+    "nadir_deg": _q(),
+    "count": ("int", None, REQ),
+    "focal_length": _q("m"),
+    "area": _q("m2"),
+    "transmittance": _q(None, 0.65),
+    "azimuth_offset_deg": _q(None, 0.0),
+}
+FACET = {
+    "azimuth_deg": _q(),
+    "elevation_deg": _q(),
+    "focal_length": _q("m"),
+    "area": _q("m2"),
+    "transmittance": _q(None, 0.65),
+}
+OPAMP = {
+    "gbw": _q("Hz", 200e3),
+    "v_low": _q("V", 0.05),
+    "v_high": _q("V", 3.25),
+    "quiescent_current": _q("A", 10e-6),
+    "e_n": _q("V/rtHz", 60e-9),
+    "i_n": _q("A/rtHz", 1e-15),
+    "open_loop_gain": _q(None, 1e5),
+}
+STAGE = {
+    "type": _choice(STAGE_TYPES),
+    "name": ("str", None, ""),
+    "r1": _q("ohm", None),
+    "c1": _q("F", None),
+    "rf": _q("ohm", None),
+    "cf": _q("F", None),
+    "r": _q("ohm", None),
+    "c": _q("F", None),
+    "num": ("list", None, None),
+    "den": ("list", None, None),
+    "v_ref": ("vref", None, None),
+    "clamp": ("bool", None, True),
+    "opamp": ("section", OPAMP, None),
+}
+SCHEMA = {
+    "design": ("section", {"name": ("str", None, "unnamed design")}, {}),
+    "lens": (
+        "section",
+        {
+            "layout": _choice(("wall", "ceiling", "table")),
+            "fov_deg": _q(None, 110.0),
+            "surface": _choice(("dome", "flat"), "dome"),
+            "name": ("str", None, "lens"),
+            "tiers": ("tables", TIER, None),
+            "rings": ("tables", RING, None),
+            "facets": ("tables", FACET, None),
+        },
+        REQ,
+    ),
+    "mount": (
+        "section",
+        {
+            "kind": _choice(("wall", "ceiling"), "wall"),
+            "height": _q("m", 2.2),
+            "tilt_deg": _q(None, 0.0),
+            "rotation_deg": _q(None, 0.0),
+        },
+        {},
+    ),
+    "sensor": (
+        "section",
+        {
+            "route": _choice(("material", "datasheet"), "material"),
+            "material": _choice(MATERIALS, "LiTaO3"),
+            "layout": _choice(("dual", "quad"), "dual"),
+            "element_width": _q("m", 1e-3),
+            "element_height": _q("m", 2e-3),
+            "element_spacing": _q("m", 2e-3),
+            "thickness": _q("m", 25e-6),
+            "absorptance": _q(None, 0.8),
+            "thermal_time_constant": _q("s"),
+            "gate_resistance": _q("ohm", None),
+            "input_capacitance": _q("F", 3e-12),
+            "mismatch": _q(None, 0.0),
+            "connection": _choice(("series", "parallel"), "series"),
+            "window_transmittance": _q(None, 0.75),
+            "band_low": _q("m", 5e-6),
+            "band_high": _q("m", 14e-6),
+            "responsivity": _q("V/W", None),
+            "electrical_time_constant": _q("s", None),
+            "element_capacitance": _q("F", None),
+            "reference_frequency": _q("Hz", 1.0),
+            "loss_tangent": _q(None, None),
+        },
+        REQ,
+    ),
+    "follower": (
+        "section",
+        {
+            "idss": _q("A"),
+            "pinch_off": _q("V"),
+            "source_resistance": _q("ohm"),
+            "e_n": _q("V/rtHz", 20e-9),
+            "i_n": _q("A/rtHz", 1e-16),
+        },
+        REQ,
+    ),
+    "opamp": ("section", OPAMP, {}),
+    "stages": ("tables", STAGE, REQ),
+    "comparator": (
+        "section",
+        {
+            "window": _choice(("ladder", "fixed", "mapped")),
+            "r_top": _q("ohm", None),
+            "r_middle": _q("ohm", None),
+            "r_bottom": _q("ohm", None),
+            "threshold": _q("V", None),
+            "settings": ("list", None, None),
+            "thresholds": ("list", None, None),
+            "setting": _q(None, None),
+            "hysteresis": _q("V", 0.0),
+        },
+        REQ,
+    ),
+    "logic": (
+        "section",
+        {
+            "rate": _q("Hz", 50.0),
+            "pulses_required": ("int", None, 2),
+            "count_window": _q("s", 4.0),
+            "alternate": ("bool", None, False),
+            "single_pulse_factor": _q(None, None),
+            "blanking": _q("s", 0.3),
+            "hold": _q("s", 60.0),
+            "retrigger": ("bool", None, True),
+            "lockout": _q("s", 2.0),
+            "daylight": (
+                "section",
+                {
+                    "r_fixed": _q("ohm"),
+                    "r_ldr_10lux": _q("ohm", 50e3),
+                    "gamma": _q(None, 0.7),
+                    "v_on": _q("V"),
+                    "hysteresis": _q("V", 0.2),
+                },
+                None,
+            ),
+        },
+        {},
+    ),
+    "supply": (
+        "section",
+        {
+            "voltage": _q("V", 3.3),
+            "reference_top": _q("ohm", 1e6),
+            "reference_bottom": _q("ohm", 1e6),
+            "logic_current": _q("A", 5e-6),
+            "other_current": _q("A", 0.0),
+            "limit": _q("A", None),
+        },
+        {},
+    ),
+    "scene": (
+        "section",
+        {
+            "target": _choice(TARGET_PRESETS, "adult"),
+            "speed": _q("m/s", 1.0),
+            "air_c": ("celsius", None, 22.0),
+            "radiant_c": ("celsius", None, None),
+            "background_c": ("celsius", None, None),
+            "background_emissivity": _q(None, 0.95),
+            "air_speed": _q(None, 0.1),
+            "lux": _q("lux", 5.0),
+        },
+        {},
+    ),
+    "draught": (
+        "section",
+        {
+            "rms": _q("K", 0.01),
+            "correlation_time": _q("s", 5.0),
+            "beam_correlation": _q(None, 0.7),
+            "fov_fraction": _q(None, 0.2),
+        },
+        None,
+    ),
+    "analysis": (
+        "section",
+        {
+            "sample_rate": _q("Hz", 100.0),
+            "level": _q(None, 0.9),
+            "trials": ("int", None, 4),
+            "d_max": _q("m", 30.0),
+            "step": _q("m", 1.5),
+            "bearings": ("list", None, [0.0]),
+            "seed": ("int", None, 0),
+            "walk_distance": _q("m", 8.0),
+            "sensitivity_path": ("str", None, "detector.comparator.window.r_middle"),
+            "sensitivity_values": ("list", None, None),
+            "false_trigger_budget": _q(None, 1.0),
+            "coverage_cell": _q("m", 1.0),
+            "coverage_x_max": _q("m", 16.0),
+            "coverage_trials": ("int", None, 2),
+        },
+        {},
+    ),
+}
+
+
+def _read(data, schema: dict, path: str) -> dict:
+    if not isinstance(data, dict):
+        raise DesignError(path, data, "a table of keys")
+    for key in data:
+        if key not in schema:
+            near = difflib.get_close_matches(key, list(schema), n=1)
+            hint = f"; did you mean '{near[0]}'?" if near else ""
+            raise DesignError(
+                f"{path}.{key}" if path else key,
+                data[key],
+                "no such key" + hint + " (known: " + ", ".join(schema) + ")",
+            )
+    out = {}
+    for key, (kind, arg, default) in schema.items():
+        where = f"{path}.{key}" if path else key
+        if key not in data:
+            if default is REQ:
+                raise DesignError(where, "missing", "a value for this required key")
+            out[key] = (
+                default if kind != "section" or default is None else _read(default, arg, where)
+            )
+            continue
+        out[key] = _value(data[key], kind, arg, where)
+    return out
+
+
+def _value(v, kind, arg, where):
+    if kind == "q":
+        return parse_quantity(v, where, arg)
+    if kind == "celsius":
+        t = parse_celsius(v, where)
+        if not -60.0 <= t <= 150.0:
+            raise DesignError(where, v, "a temperature between -60 and 150 °C")
+        return t
+    if kind == "int":
+        if isinstance(v, bool) or not isinstance(v, int):
+            raise DesignError(where, v, "an integer")
+        return v
+    if kind == "bool":
+        if not isinstance(v, bool):
+            raise DesignError(where, v, "true or false")
+        return v
+    if kind == "str":
+        if not isinstance(v, str):
+            raise DesignError(where, v, "a text string")
+        return v
+    if kind == "choice":
+        if v not in arg:
+            near = difflib.get_close_matches(str(v), list(arg), n=1)
+            hint = f" (did you mean '{near[0]}'?)" if near else ""
+            raise DesignError(where, v, "one of " + ", ".join(map(repr, arg)) + hint)
+        return v
+    if kind == "list":
+        if not isinstance(v, list) or not v:
+            raise DesignError(where, v, "a non-empty list")
+        return v
+    if kind == "vref":
+        return v if v == "reference" else parse_quantity(v, where, "V")
+    if kind == "section":
+        return _read(v, arg, where)
+    if kind == "tables":
+        if not isinstance(v, list) or not v:
+            raise DesignError(where, v, "a non-empty list of tables")
+        return [_read(item, arg, f"{where}[{i}]") for i, item in enumerate(v)]
+    raise AssertionError(kind)
+
+
+def _build(where: str, make):
+    """Call ``make`` and re-raise a DesignError with the design-file key path."""
+    try:
+        return make()
+    except DesignError as err:
+        leaf = err.field.split(".")[-1]
+        raise DesignError(f"{where}.{leaf}", err.value, err.expected) from None
+    except (TypeError, ValueError) as err:
+        raise DesignError(where, "invalid", str(err)) from None
+
+
+def _quantities(where, items, unit=None):
+    return [parse_quantity(x, f"{where}[{i}]", unit) for i, x in enumerate(items)]
+
+
+@dataclass(frozen=True)
+class AnalysisSettings:
+    """Analysis settings of a design file (see the ``[analysis]`` section)."""
+
+    sample_rate: float = 100.0
+    level: float = 0.9
+    trials: int = 4
+    d_max: float = 30.0
+    step: float = 1.5
+    bearings: tuple[float, ...] = (0.0,)
+    seed: int = 0
+    walk_distance: float = 8.0
+    sensitivity_path: str = "detector.comparator.window.r_middle"
+    sensitivity_values: tuple[float, ...] | None = None
+    false_trigger_budget: float = 1.0
+    coverage_cell: float = 1.0
+    coverage_x_max: float = 16.0
+    coverage_trials: int = 2
+
+
+@dataclass(frozen=True)
+class Design:
+    """Everything a design file describes."""
+
+    detector: Detector
+    environment: Environment
+    target_name: str
+    speed: float
+    draught: Draught | None
+    lux: float
+    analysis: AnalysisSettings = field(default_factory=AnalysisSettings)
+
+    @property
+    def target(self):
+        """The target preset."""
+        return target_preset(self.target_name)
+
+    def study(self) -> Study:
+        """The sweep study of this design."""
+        a = self.analysis
+        return Study(
+            self.detector,
+            self.environment,
+            self.target,
+            self.speed,
+            a.bearings[len(a.bearings) // 2] if a.bearings else 0.0,
+            self.draught,
+            a.level,
+            a.trials,
+            a.d_max,
+            a.step,
+            a.seed,
+            True,
+        )
+
+
+def _lens(c):
+    if c["layout"] == "wall":
+        if not c["tiers"]:
+            raise DesignError("lens.tiers", None, "a list of tiers for layout = 'wall'")
+        tiers = [
+            _build(f"lens.tiers[{i}]", lambda t=t: LensTier(**t)) for i, t in enumerate(c["tiers"])
+        ]
+        return _build("lens", lambda: wall_lens(tiers, c["fov_deg"], c["surface"], c["name"]))
+    if c["layout"] == "ceiling":
+        if not c["rings"]:
+            raise DesignError("lens.rings", None, "a list of rings for layout = 'ceiling'")
+        rings = [
+            _build(f"lens.rings[{i}]", lambda r=r: LensRing(**r)) for i, r in enumerate(c["rings"])
+        ]
+        return _build("lens", lambda: ceiling_lens(rings, c["surface"], c["name"]))
+    if not c["facets"]:
+        raise DesignError("lens.facets", None, "a list of facets for layout = 'table'")
+    facets = tuple(
+        _build(f"lens.facets[{i}]", lambda f=f: Facet(**f)) for i, f in enumerate(c["facets"])
+    )
+    return _build("lens", lambda: Lens(facets, c["surface"], c["name"]))
+
+
+def _sensor(c):
+    els = dual_elements if c["layout"] == "dual" else quad_elements
+    elements = _build(
+        "sensor", lambda: els(c["element_width"], c["element_height"], c["element_spacing"])
+    )
+    common = dict(
+        input_capacitance=c["input_capacitance"],
+        connection=c["connection"],
+        mismatch=c["mismatch"],
+        window_transmittance=c["window_transmittance"],
+        band=(c["band_low"], c["band_high"]),
+    )
+    if c["route"] == "material":
+        if c["gate_resistance"] is None:
+            raise DesignError("sensor.gate_resistance", "missing", "a gate resistor (e.g. '60G')")
+        s = _build(
+            "sensor",
+            lambda: PyroSensor.from_material(
+                c["material"],
+                elements,
+                c["thickness"],
+                c["absorptance"],
+                thermal_time_constant=c["thermal_time_constant"],
+                gate_resistance=c["gate_resistance"],
+                **common,
+            ),
+        )
+    else:
+        for key in ("responsivity", "electrical_time_constant"):
+            if c[key] is None:
+                raise DesignError(f"sensor.{key}", "missing", "a value for route = 'datasheet'")
+        s = _build(
+            "sensor",
+            lambda: PyroSensor.from_datasheet(
+                c["responsivity"],
+                c["thermal_time_constant"],
+                c["electrical_time_constant"],
+                c["element_capacitance"] or 30e-12,
+                c["reference_frequency"],
+                elements,
+                **common,
+            ),
+        )
+    if c["loss_tangent"] is not None:
+        import dataclasses
+
+        s = _build("sensor", lambda: dataclasses.replace(s, loss_tangent=c["loss_tangent"]))
+    return s
+
+
+def _stage(i, c, default_amp, supply):
+    where = f"stages[{i}]"
+    amp = (
+        default_amp if c["opamp"] is None else _build(f"{where}.opamp", lambda: OpAmp(**c["opamp"]))
+    )
+    cls = STAGE_TYPES[c["type"]]
+    vref = c["v_ref"]
+    if vref == "reference":
+        vref = supply.reference
+    name = c["name"] or f"stage {i + 1}"
+    if c["type"] in ("non_inverting_band_pass", "inverting_band_pass"):
+        for key in ("r1", "c1", "rf", "cf"):
+            if c[key] is None:
+                raise DesignError(f"{where}.{key}", "missing", f"a value for a {c['type']} stage")
+        dflt = 0.0 if c["type"] == "non_inverting_band_pass" else supply.reference
+        return _build(
+            where,
+            lambda: cls(
+                c["r1"], c["c1"], c["rf"], c["cf"], amp, dflt if vref is None else vref, name
+            ),
+        )
+    if c["type"] in ("rc_high_pass", "rc_low_pass"):
+        for key in ("r", "c"):
+            if c[key] is None:
+                raise DesignError(f"{where}.{key}", "missing", f"a value for a {c['type']} stage")
+        return _build(where, lambda: cls(c["r"], c["c"], 0.0 if vref is None else vref, name))
+    for key in ("num", "den"):
+        if c[key] is None:
+            raise DesignError(f"{where}.{key}", "missing", "polynomial coefficients (s^n first)")
+    num = _quantities(f"{where}.num", c["num"])
+    den = _quantities(f"{where}.den", c["den"])
+    return _build(
+        where,
+        lambda: cls(
+            tuple(num), tuple(den), 0.0 if vref is None else vref, amp if c["clamp"] else None, name
+        ),
+    )
+
+
+def _comparator(c, supply):
+    w = c["window"]
+    if w == "ladder":
+        for key in ("r_top", "r_middle", "r_bottom"):
+            if c[key] is None:
+                raise DesignError(f"comparator.{key}", "missing", "a resistor for a ladder window")
+        win = _build(
+            "comparator",
+            lambda: LadderWindow(supply.voltage, c["r_top"], c["r_middle"], c["r_bottom"]),
+        )
+    elif w == "fixed":
+        if c["threshold"] is None:
+            raise DesignError("comparator.threshold", "missing", "a threshold in V")
+        win = _build("comparator", lambda: FixedWindow(supply.reference, c["threshold"]))
+    else:
+        for key in ("settings", "thresholds", "setting"):
+            if c[key] is None:
+                raise DesignError(f"comparator.{key}", "missing", "a value for a mapped window")
+        xs = _quantities("comparator.settings", c["settings"])
+        ys = _quantities("comparator.thresholds", c["thresholds"], "V")
+        win = _build(
+            "comparator", lambda: MappedWindow(supply.reference, tuple(xs), tuple(ys), c["setting"])
+        )
+    return _build("comparator", lambda: WindowComparator(win, c["hysteresis"]))
+
+
+def design_from_dict(data: dict) -> Design:
+    """Build a :class:`Design` from parsed TOML data (raises :class:`DesignError`)."""
+    c = _read(data, SCHEMA, "")
+    supply = _build("supply", lambda: PowerSupply(**c["supply"]))
+    amp = _build("opamp", lambda: OpAmp(**c["opamp"]))
+    stages = tuple(_stage(i, s, amp, supply) for i, s in enumerate(c["stages"]))
+    lg = dict(c["logic"])
+    day = lg.pop("daylight")
+    daylight = (
+        None
+        if day is None
+        else _build("logic.daylight", lambda: DaylightInhibit(supply.voltage, **day))
+    )
+    logic = _build("logic", lambda: PulseLogic(**lg, daylight=daylight))
+    fol = c["follower"]
+    follower = _build(
+        "follower",
+        lambda: SourceFollower(
+            Jfet(fol["idss"], fol["pinch_off"], fol["e_n"], fol["i_n"]), fol["source_resistance"]
+        ),
+    )
+    mount = _build("mount", lambda: Mount(**c["mount"]))
+    det = _build(
+        "design",
+        lambda: Detector(
+            _lens(c["lens"]),
+            mount,
+            _sensor(c["sensor"]),
+            follower,
+            stages,
+            _comparator(c["comparator"], supply),
+            logic,
+            supply,
+            c["design"]["name"],
+        ),
+    )
+    sc = c["scene"]
+    env = _build(
+        "scene",
+        lambda: Environment(
+            sc["air_c"],
+            sc["radiant_c"],
+            sc["background_c"],
+            sc["background_emissivity"],
+            sc["air_speed"],
+        ),
+    )
+    if not (sc["speed"] > 0 and math.isfinite(sc["speed"])):
+        raise DesignError("scene.speed", sc["speed"], "a walking speed > 0 m/s")
+    dr = None if c["draught"] is None else _build("draught", lambda: Draught(**c["draught"]))
+    a = dict(c["analysis"])
+    a["bearings"] = tuple(_quantities("analysis.bearings", a["bearings"]))
+    if a["sensitivity_values"] is not None:
+        a["sensitivity_values"] = tuple(
+            _quantities("analysis.sensitivity_values", a["sensitivity_values"])
+        )
+    for key in ("trials", "coverage_trials"):
+        if a[key] < 1:
+            raise DesignError(f"analysis.{key}", a[key], "an integer >= 1")
+    for key in (
+        "sample_rate",
+        "d_max",
+        "step",
+        "walk_distance",
+        "coverage_cell",
+        "coverage_x_max",
+        "false_trigger_budget",
+    ):
+        if a[key] <= 0:
+            raise DesignError(f"analysis.{key}", a[key], "a value > 0")
+    if not 0 < a["level"] <= 1:
+        raise DesignError("analysis.level", a["level"], "a probability in (0, 1]")
+    return Design(det, env, sc["target"], sc["speed"], dr, sc["lux"], AnalysisSettings(**a))
+
+
+def loads(text: str) -> Design:
+    """Parse design-file text."""
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as err:
+        raise DesignError("file", "TOML", f"valid TOML ({err})") from None
+    return design_from_dict(data)
+
+
+def load(path) -> Design:
+    """Load a design file."""
+    try:
+        with open(path, "rb") as fh:
+            raw = fh.read()
+    except OSError as err:
+        raise DesignError("file", str(path), f"a readable design file ({err.strerror})") from None
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError:
+        raise DesignError("file", str(path), "UTF-8 text") from None
+    return loads(text)
