@@ -31,11 +31,11 @@ class DesignError(PirchainError, ValueError):
         What would have been accepted.
     """
 
-    def __init__(self, field: str, value: object, expected: str):
+    def __init__(self, field: str, value: object, expected: str, message: str | None = None):
         self.field = field
         self.value = value
         self.expected = expected
-        super().__init__(f"{field} = {_short(value)}: expected {expected}")
+        super().__init__(message or f"{field} = {_short(value)}: expected {expected}")
 
 
 class ValidityWarning(UserWarning):
