@@ -255,10 +255,12 @@ def _read(data, schema: dict, path: str) -> dict:
         if key not in schema:
             near = difflib.get_close_matches(key, list(schema), n=1)
             hint = f"; did you mean '{near[0]}'?" if near else ""
+            where = f"{path}.{key}" if path else key
             raise DesignError(
-                f"{path}.{key}" if path else key,
+                where,
                 data[key],
-                "no such key" + hint + " (known: " + ", ".join(schema) + ")",
+                "a known key",
+                f"{where}: unknown key{hint} (known here: {', '.join(schema)})",
             )
     out = {}
     for key, (kind, arg, default) in schema.items():
