@@ -548,18 +548,12 @@ def design_from_dict(data: dict) -> Design:
         ),
     )
     mount = _build("mount", lambda: Mount(**c["mount"]))
+    lens, sensor = _lens(c["lens"]), _sensor(c["sensor"])
+    comparator = _comparator(c["comparator"], supply)
     det = _build(
-        "design",
+        "supply",
         lambda: Detector(
-            _lens(c["lens"]),
-            mount,
-            _sensor(c["sensor"]),
-            follower,
-            stages,
-            _comparator(c["comparator"], supply),
-            logic,
-            supply,
-            c["design"]["name"],
+            lens, mount, sensor, follower, stages, comparator, logic, supply, c["design"]["name"]
         ),
     )
     sc = c["scene"]

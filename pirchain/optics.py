@@ -113,6 +113,11 @@ class LensTier:
     area: float
     transmittance: float = 0.65
 
+    def __post_init__(self):
+        Facet(0.0, self.elevation_deg, self.focal_length, self.area, self.transmittance)
+        if not isinstance(self.count, int) or self.count < 1:
+            raise DesignError("tier.count", self.count, "an integer >= 1")
+
 
 @dataclass(frozen=True)
 class LensRing:
@@ -124,6 +129,13 @@ class LensRing:
     area: float
     transmittance: float = 0.65
     azimuth_offset_deg: float = 0.0
+
+    def __post_init__(self):
+        check_range("ring.nadir_deg", self.nadir_deg, 0.0, 89.0, "°")
+        Facet(0.0, self.nadir_deg - 90.0, self.focal_length, self.area, self.transmittance)
+        check_range("ring.azimuth_offset_deg", self.azimuth_offset_deg, -360.0, 360.0, "°")
+        if not isinstance(self.count, int) or self.count < 1:
+            raise DesignError("ring.count", self.count, "an integer >= 1")
 
 
 def wall_lens(
