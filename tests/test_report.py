@@ -14,14 +14,19 @@ EVIL = "<script>alert(1)</script>"
 
 
 def small_design(tmp_path):
-    text = (DEMO_TOML.replace('name = "Tern-2 reading-room wall sensor (demo)"', f'name = "{EVIL}"')
-            .replace("trials = 4", "trials = 1")
-            .replace("bearings = [-50, -30, -15, 0, 15, 30, 50]", "bearings = [0, 30]")
-            .replace("coverage_x_max = 16", "coverage_x_max = 6")
-            .replace("coverage_cell = 1.0", "coverage_cell = 1.5")
-            .replace("d_max = 30", "d_max = 24").replace("step = 1.5", "step = 3")
-            .replace('sensitivity_values = ["62k", "91k", "150k", "270k", "470k", "820k"]',
-                     'sensitivity_values = ["91k", "470k"]'))
+    text = (
+        DEMO_TOML.replace('name = "Tern-2 reading-room wall sensor (demo)"', f'name = "{EVIL}"')
+        .replace("trials = 4", "trials = 1")
+        .replace("bearings = [-50, -30, -15, 0, 15, 30, 50]", "bearings = [0, 30]")
+        .replace("coverage_x_max = 16", "coverage_x_max = 6")
+        .replace("coverage_cell = 1.0", "coverage_cell = 1.5")
+        .replace("d_max = 30", "d_max = 24")
+        .replace("step = 1.5", "step = 3")
+        .replace(
+            'sensitivity_values = ["62k", "91k", "150k", "270k", "470k", "820k"]',
+            'sensitivity_values = ["91k", "470k"]',
+        )
+    )
     path = tmp_path / "small.toml"
     path.write_text(text, encoding="utf-8")
     return path
@@ -49,11 +54,25 @@ def test_readme_main_command_writes_the_demo_report(tmp_path):
     # README: `python3 -m pip install . && pirchain` — the installed entry point is the CLI
     # module's main(); run it with no arguments in an empty folder.
     env = dict(os.environ, MPLBACKEND="Agg")
-    proc = subprocess.run([sys.executable, "-m", "pirchain.cli"], cwd=tmp_path,
-                          capture_output=True, text=True, env=env, check=False, timeout=600)
+    proc = subprocess.run(
+        [sys.executable, "-m", "pirchain.cli"],
+        cwd=tmp_path,
+        capture_output=True,
+        text=True,
+        env=env,
+        check=False,
+        timeout=600,
+    )
     assert proc.returncode == 0, proc.stderr
     assert (tmp_path / "pirchain-report.html").exists()
     assert "accredited laboratory" in proc.stdout
-    again = subprocess.run([sys.executable, "-m", "pirchain.cli"], cwd=tmp_path,
-                           capture_output=True, text=True, env=env, check=False, timeout=600)
+    again = subprocess.run(
+        [sys.executable, "-m", "pirchain.cli"],
+        cwd=tmp_path,
+        capture_output=True,
+        text=True,
+        env=env,
+        check=False,
+        timeout=600,
+    )
     assert again.returncode == 0 and (tmp_path / "pirchain-report-2.html").exists()

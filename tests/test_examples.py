@@ -1,0 +1,92 @@
+"""Every example runs as a user would run it, and its printed numbers are checked against
+outside relations: the Shockley square law (Sedra & Smith), the RC corner 1/(2πRC)
+(Horowitz & Hill), the ladder divider (Ohm's law), and the stated Poisson counting
+approximation (factor 3, see tests/test_false_triggers.py)."""
+
+import math
+import os
+import re
+import subprocess
+import sys
+
+import pytest
+
+ROOT = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
+
+
+def run(name):
+    proc = subprocess.run(
+        [sys.executable, os.path.join(ROOT, "examples", name)],
+        capture_output=True,
+        text=True,
+        check=False,
+        timeout=600,
+        env=dict(os.environ, MPLBACKEND="Agg"),
+    )
+    assert proc.returncode == 0, proc.stderr
+    return proc.stdout
+
+
+def values(out):
+    return {k: v.split() for k, v in re.findall(r"^(\w+): (.+)$", out, flags=re.M)}
+
+
+def test_bias_for_two_wire_budget():
+    out = run("bias_for_two_wire_budget.py")
+    v = values(out)
+    r_s, i_d, v_s = (
+        float(v[k][0])
+        for k in ("chosen_source_resistor", "chosen_drain_current", "chosen_source_voltage")
+    )
+    # Shockley: R_S I_DSS (1 − V_S/|V_P|)² = V_S with the demo JFET (400 µA, 1.2 V)
+    assert r_s * 400e-6 * (1 - v_s / 1.2) ** 2 == pytest.approx(v_s, rel=1e-4)
+    assert i_d == pytest.approx(v_s / r_s, rel=1e-5)
+    assert float(v["chosen_total_current"][0]) <= 30e-6
+    # the table row just below the chosen R_S exceeds the budget
+    rows = re.findall(r"^\s*(\d+)\s+[\d.]+\s+[\d.]+\s+[\d.]+\s+([\d.]+)$", out, flags=re.M)
+    totals = {float(a): float(b) for a, b in rows}
+    smaller = [r for r in totals if r < r_s]
+    assert smaller and all(totals[r] > 30.0 for r in smaller)
+    c1 = float(v["chosen_c1"][0])
+    assert float(v["chosen_low_corner"][0]) == pytest.approx(
+        1 / (2 * math.pi * 10e3 * c1), rel=1e-5
+    )
+    assert float(v["chosen_warm_up"][0]) <= 30.0
+
+
+def test_wall_range_vs_sensitivity():
+    out = run("wall_range_vs_sensitivity.py")
+    rows = re.findall(
+        r"sensitivity\s+(\d+) ohm: threshold ([\d.]+) V, range ([\d.]+) m, "
+        r"noise-free ([\d.]+) m",
+        out,
+    )
+    assert len(rows) == 4
+    prev = math.inf
+    for r, th, _, free in rows:
+        r, th, free = float(r), float(th), float(free)
+        assert th == pytest.approx(1.65 * r / (2e6 + r), rel=1e-5)  # ladder, Ohm's law
+        assert free <= prev + 1e-9  # range falls as the threshold rises
+        prev = free
+
+
+def test_ceiling_hvac_false_triggers():
+    out = run("ceiling_hvac_false_triggers.py")
+    rows = re.findall(
+        r"^(still air|diffuser): noise ([\d.]+) mV rms, draught share ([\d.]+), "
+        r"1/year threshold ([\d.]+) mV, sensitivity resistor (\d+) ohm",
+        out,
+        re.M,
+    )
+    assert [r[0] for r in rows] == ["still air", "diffuser"]
+    still, diff = ([float(x) for x in r[1:]] for r in rows)
+    assert diff[0] > still[0] and diff[1] > 0.5 and still[1] == 0.0
+    assert diff[2] > still[2]
+    for _, _, th_mv, r_sens in (still, diff):
+        th = th_mv * 1e-3  # ladder 1 MΩ / R / 1 MΩ on 3.3 V: R = 2 th (2 MΩ)/(3.3 − 2 th)
+        assert r_sens == pytest.approx(2 * th * 2e6 / (3.3 - 2 * th), rel=1e-3)
+    v = values(out)
+    analytic = float(v["analytic_alarms_per_day"][0])
+    lo, hi = (float(x) for x in v["mc_interval_per_day"])
+    assert int(v["mc_turn_ons"][0]) > 50
+    assert lo / 3 < analytic < 3 * hi
