@@ -436,6 +436,8 @@ def main(argv=None) -> int:
     except DesignError as exc:
         print(f"pirchain: design error: {exc}", file=sys.stderr)
         return EXIT_DESIGN
+    except BrokenPipeError:  # output piped into a program that stopped reading
+        return EXIT_OK
     except KeyboardInterrupt:
         print("pirchain: interrupted; nothing half-written was left", file=sys.stderr)
         return EXIT_INTERNAL
