@@ -148,10 +148,34 @@ class Detector:
         return make_beams(self.lens, self.mount, self.sensor.elements)
 
     def element_power(
-        self, target: Target, env: Environment, walks: Walks, beams: Beams | None = None
+        self,
+        target: Target,
+        env: Environment,
+        walks: Walks,
+        beams: Beams | None = None,
+        method: str = "compiled",
     ) -> np.ndarray:
-        """Radiant power change on each element, shape (walks, samples, elements) [W]."""
+        """Radiant power change on each element, shape (walks, samples, elements) [W].
+
+        ``method="compiled"`` uses the fused kernel of :mod:`pirchain.optics_kernel` for
+        targets of static parts; ``"reference"`` (and any swinging-arm target) uses the
+        array path of :mod:`pirchain.target_pose` and :mod:`pirchain.optics`. Both give the
+        same result to rounding (tested).
+        """
         beams = self.beams() if beams is None else beams
+        if method == "compiled" and target.swing is None and target.parts:
+            from .optics_kernel import element_power_static
+
+            contrast = target.radiance_contrast(env, self.sensor.band)
+            return element_power_static(
+                beams,
+                target,
+                contrast,
+                walks,
+                self.mount.height,
+                len(self.sensor.elements),
+                self.sensor.window_transmittance,
+            )
         pp = pose(target, walks)
         angles = part_angles(pp.x, pp.y, pp.half_width, pp.z_bottom, pp.z_top, self.mount.height)
         contrast = target.radiance_contrast(env, self.sensor.band)

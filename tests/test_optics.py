@@ -1,6 +1,7 @@
 """Lens optics: the distance laws of radiometry (P = L A cos θ Ω; Boyd 1983) and the
 thin-lens timing of a beam-pair crossing (DESIGN.md §3.3, Born & Wolf)."""
 
+import dataclasses
 import math
 
 import numpy as np
@@ -135,4 +136,31 @@ def test_ceiling_ring_geometry():
     # cos 45°: solid angle A cos θ / f² (small-angle thin lens)
     np.testing.assert_allclose(
         beams.solid_angle, 2e-6 * math.cos(math.pi / 4) / 15e-3**2, rtol=2e-3
+    )
+
+
+def test_compiled_kernel_equals_reference_path():
+    # the fused numba kernel against the array path (same equations), 1e-12 relative
+    from pirchain.demo import demo_detector, demo_environment
+    from pirchain.scene import adult, child, small_pet
+
+    det, env = demo_detector(), demo_environment()
+    rng = np.random.default_rng(4)
+    n = 60
+    dist = rng.uniform(0.5, 25.0, n)
+    b = rng.uniform(-3.0, 3.0, n)  # all round, including behind and across ±180°
+    c = np.stack([dist * np.cos(b), dist * np.sin(b)], axis=1)
+    head = rng.normal(size=(n, 2))
+    walks = straight_walks(c, head, rng.uniform(0.2, 3.0, n), 4.0, 50.0)
+    for tgt in (adult(), child(), small_pet()):
+        ref = det.element_power(tgt, env, walks, method="reference")
+        fast = det.element_power(tgt, env, walks)
+        assert np.abs(ref).max() > 0
+        np.testing.assert_allclose(fast, ref, rtol=1e-12, atol=1e-12 * np.abs(ref).max())
+    ceil = dataclasses.replace(
+        det, lens=ceiling_lens([LensRing(40.0, 12, 15e-3, 15e-6)]), mount=Mount("ceiling", 2.7)
+    )
+    ref = ceil.element_power(adult(), env, walks, method="reference")
+    np.testing.assert_allclose(
+        ceil.element_power(adult(), env, walks), ref, rtol=1e-12, atol=1e-12 * np.abs(ref).max()
     )

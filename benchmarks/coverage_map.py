@@ -1,6 +1,6 @@
 """A coverage map of at least 10 000 walks, chunked: time, bare filtering floor, peak memory.
 
-Run:  python benchmarks/coverage.py [--cells-x N] [--trials T] [--chunk C]
+Run:  python benchmarks/coverage_map.py [--cells-x N] [--trials T] [--chunk C]
 The floor is scipy.signal.sosfilt over the same (walks × samples) with the sections of the
 whole linear chain (sensor, follower, stages). Peak memory is the peak traced by tracemalloc
 during the map (numpy buffers included) and the process's maximum resident set size.
