@@ -40,7 +40,8 @@ def _kernel(
                 lx, ly = 1.0, 0.0
             rho = max(r_true, _MIN_RANGE)
             az = math.atan2(y, x)
-            c = abs(head[w, t, 0] * lx + head[w, t, 1] * ly)
+            th = t if head.shape[1] > 1 else 0
+            c = abs(head[w, th, 0] * lx + head[w, th, 1] * ly)
             sn = math.sqrt(max(1.0 - c * c, 0.0))
             ah_max = 0.0
             for p in range(n_p):
@@ -104,9 +105,12 @@ def element_power_static(
     b_k = np.ascontiguousarray(beams.element[order]).astype(np.int64)
     parts = target.parts
     out = np.zeros((walks.n_walks, walks.n_samples, n_elements))
+    head = walks.heading
+    if head.ndim == 3 and head.shape[1] > 1 and head.strides[1] == 0:
+        head = head[:, :1, :]  # one heading per walk (a broadcast view): no copy
     _kernel(
         np.ascontiguousarray(walks.position, dtype=float),
-        np.ascontiguousarray(walks.heading, dtype=float),
+        np.ascontiguousarray(head, dtype=float),
         np.array([p.width_front for p in parts]),
         np.array([p.width_side for p in parts]),
         np.array([p.z_bottom for p in parts]),
