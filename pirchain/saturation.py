@@ -129,9 +129,12 @@ def piecewise(stage, u: np.ndarray, sample_rate: float, x0: np.ndarray):
         mode = np.where((mode == 0) & (yl < amp.v_low), -1, mode)
         x = np.where((mode == 0)[:, None], xl, np.where((mode == 1)[:, None], xh, xo))
         y_lin = x @ c + d * u[:, n + 1] + f
-        # pinned walks whose linear output is back inside the rails leave the rail
+        # pinned walks whose linear output is back inside the rails leave the rail; one that
+        # swings past the other rail within the step is pinned there instead
         mode = np.where((mode == 1) & (y_lin <= amp.v_high), 0, mode)
         mode = np.where((mode == -1) & (y_lin >= amp.v_low), 0, mode)
+        mode = np.where((mode == 0) & (y_lin > amp.v_high), 1, mode)
+        mode = np.where((mode == 0) & (y_lin < amp.v_low), -1, mode)
         y[:, n + 1] = _output(y_lin, mode, amp)
         pinned[:, n + 1] = mode != 0
     return y, pinned
