@@ -251,6 +251,7 @@ class Detector:
 
     def simulate(self, target: Target, env: Environment, walks: Walks, lux=None) -> ChainResult:
         """Run a batch of walks through the whole chain, from the scene to decisions."""
+        self._check_sampling(walks)
         front = self.front_end(target, env, walks)
         ana = self.analog(front.gate_voltage, walks.sample_rate)
         win = self.window()
@@ -262,6 +263,26 @@ class Detector:
             lux,
         )
         return ChainResult(front, ana, win, pulses, decisions)
+
+    def _check_sampling(self, walks: Walks) -> None:
+        """Warn when the fastest beam crossing comes near the sample rate."""
+        if walks.n_samples < 2 or walks.sample_rate <= 0:
+            return
+        step = np.hypot(*np.moveaxis(np.diff(walks.position, axis=1), -1, 0))
+        v_max = float(step.max()) * walks.sample_rate
+        if v_max == 0:
+            return
+        rho = float(np.hypot(walks.position[..., 0], walks.position[..., 1]).min())
+        xs = np.array([e.x for e in self.sensor.elements])
+        spacing = float(np.ptp(xs)) or self.sensor.elements[0].width
+        focal = max(f.focal_length for f in self.lens.facets)
+        f_cross = v_max * focal / (2 * max(rho, 0.3) * spacing)
+        if f_cross > walks.sample_rate / 10:
+            warn_validity(
+                f"beam crossings reach {f_cross:.3g} Hz, above a tenth of the "
+                f"{walks.sample_rate:g} Hz sample rate: raise the sample rate for "
+                "accurate waveforms"
+            )
 
     def power_up(self, duration: float = 120.0, sample_rate: float = 50.0):
         """Comparator input after switch-on with all capacitors discharged.

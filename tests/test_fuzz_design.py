@@ -11,8 +11,27 @@ from pirchain.demo_text import DEMO_TOML
 from pirchain.design_file import loads
 from pirchain.errors import DesignError
 
-JUNK = ['"x"', "-1", "0", "1e308", "-1e308", "nan", "inf", '"4k7"', '"10uF"', "true", "[]",
-        "[1, 2]", "{}", '"∞"', '""', '"1e-30"', "3.3", '"-0"', "99999999999999999999"]
+JUNK = [
+    '"x"',
+    "-1",
+    "0",
+    "1e308",
+    "-1e308",
+    "nan",
+    "inf",
+    '"4k7"',
+    '"10uF"',
+    "true",
+    "[]",
+    "[1, 2]",
+    "{}",
+    '"∞"',
+    '""',
+    '"1e-30"',
+    "3.3",
+    '"-0"',
+    "99999999999999999999",
+]
 
 
 def mutations(seed: int, n: int):
@@ -31,7 +50,7 @@ def mutations(seed: int, n: int):
             m.insert(i, m[rng.randrange(len(m))])
         elif op == 3 and m[i]:
             j = rng.randrange(len(m[i]))
-            m[i] = m[i][:j] + rng.choice("xz[]{}=\"'#.5-") + m[i][j + 1:]
+            m[i] = m[i][:j] + rng.choice("xz[]{}=\"'#.5-") + m[i][j + 1 :]
         else:
             m[i] = m[i].replace("k", "K", 1).replace("u", "µ", 1)
         yield "\n".join(m) + "\n"

@@ -1,0 +1,104 @@
+"""Extreme but legal inputs give finite results or a ValidityWarning of our own class, never
+NaN or a hang; outputs are atomic; the same inputs and seed give byte-identical JSON."""
+
+import dataclasses
+import json
+import os
+import warnings
+
+import numpy as np
+import pytest
+
+from pirchain.cli import main
+from pirchain.demo import demo_detector, demo_environment
+from pirchain.demo_text import DEMO_TOML
+from pirchain.errors import DesignError, ValidityWarning
+from pirchain.output import write_new
+from pirchain.scene import adult, radial_path, tangential_path, walks_from_paths
+from pirchain.sensor import PyroSensor
+
+ENV = demo_environment()
+
+
+def run(det, paths, duration, rate=100.0):
+    walks = walks_from_paths(paths, duration, rate)
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        res = det.simulate(adult(), ENV, walks)
+    others = [w for w in caught if not issubclass(w.category, ValidityWarning)]
+    assert not others, [str(w.message) for w in others]
+    for arr in (
+        res.front.element_power,
+        res.front.gate_voltage,
+        res.analog.comparator_input,
+        *res.analog.stage_outputs,
+    ):
+        assert np.all(np.isfinite(arr))
+    return res, [w for w in caught if issubclass(w.category, ValidityWarning)]
+
+
+def test_electrical_time_constant_of_1000_s():
+    base = demo_detector()
+    s = PyroSensor.from_datasheet(5000.0, 0.3, 1000.0, 30e-12)
+    res, _ = run(dataclasses.replace(base, sensor=s), [tangential_path(6.0, 0.0, 1.0)], 10.0)
+    assert np.max(np.abs(res.front.gate_voltage)) > 0
+
+
+def test_120_db_of_gain():
+    base = demo_detector()
+    st1 = dataclasses.replace(base.stages[0], rf=9.99e6, cf=1.5e-9)  # × 1000
+    st2 = dataclasses.replace(base.stages[1], r1=1e3, rf=1e6)  # × 1000
+    det = dataclasses.replace(base, stages=(st1, st2))
+    res, _ = run(det, [tangential_path(10.0, 0.0, 1.0)], 8.0)
+    assert any(p.any() for p in res.analog.pinned)  # it saturates, and says so in the data
+
+
+def test_very_slow_walk_and_fast_run():
+    det = demo_detector()
+    slow, _ = run(det, [tangential_path(5.0, 0.0, 0.05, length=1.0)], 20.0)
+    fast, warned = run(
+        det, [radial_path(12.0, 1.0, 0.0, 10.0), tangential_path(1.0, 0.0, 10.0)], 3.0
+    )
+    assert warned and "sample rate" in str(warned[0].message)
+    assert slow.front.gate_voltage.shape == (1, 2000)
+
+
+def test_one_kilohertz_logic_rate():
+    det = demo_detector()
+    det = dataclasses.replace(det, logic=dataclasses.replace(det.logic, rate=1000.0))
+    res, _ = run(det, [tangential_path(8.0, 0.0, 1.0)], 8.0)
+    assert res.detected[0]
+
+
+def test_interrupted_write_leaves_nothing(tmp_path, monkeypatch):
+    target = tmp_path / "report.html"
+
+    def boom(*a, **k):
+        raise KeyboardInterrupt
+
+    monkeypatch.setattr(os, "link", boom)
+    with pytest.raises(KeyboardInterrupt):
+        write_new(str(target), "x" * 10_000)
+    assert not target.exists() and os.listdir(tmp_path) == []
+    monkeypatch.undo()
+    write_new(str(target), "done")
+    with pytest.raises(DesignError, match="does not exist yet"):
+        write_new(str(target), "again")
+    assert target.read_text() == "done"
+
+
+def test_same_seed_gives_identical_json(tmp_path, capsys):
+    small = DEMO_TOML.replace("trials = 4", "trials = 2").replace(
+        "bearings = [-50, -30, -15, 0, 15, 30, 50]", "bearings = [0]"
+    )
+    path = tmp_path / "d.toml"
+    path.write_text(small, encoding="utf-8")
+    outs = []
+    for seed in ("5", "5"):
+        assert main(["range", str(path), "--kind", "tangential", "--json", "--seed", seed]) == 0
+        assert (
+            main(["false-triggers", str(path), "--json", "--mc-hours", "0.2", "--seed", seed]) == 0
+        )
+        outs.append(capsys.readouterr().out)
+    assert outs[0] == outs[1]
+    json.loads(outs[0].split("\n}\n")[0] + "\n}")
