@@ -67,7 +67,7 @@ def _has_network(stage) -> bool:
     return isinstance(stage, (NonInvertingBandPass, InvertingBandPass))
 
 
-def piecewise(stage, u: np.ndarray, sample_rate: float, x0: np.ndarray):
+def piecewise(stage, u: np.ndarray, sample_rate: float, x0: np.ndarray, compiled: bool = True):
     """Exact linear / pinned integration of one stage for a batch of walks.
 
     Parameters
@@ -87,6 +87,9 @@ def piecewise(stage, u: np.ndarray, sample_rate: float, x0: np.ndarray):
         Output voltage [V].
     pinned : numpy.ndarray of bool, shape (walks, samples)
         True where the op-amp is at a rail.
+
+    ``compiled=False`` runs the array version (all walks advanced together per sample), the
+    reference for the compiled kernel of :mod:`pirchain.saturation_kernel`.
     """
     h = 1.0 / sample_rate
     lin = stage.state_model()
@@ -101,6 +104,27 @@ def piecewise(stage, u: np.ndarray, sample_rate: float, x0: np.ndarray):
     pinned = np.zeros((w, t), dtype=bool)
     x = np.array(x0, dtype=float, copy=True)
     c, d, f = lin.C, lin.D, lin.f
+    if compiled:
+        from .saturation_kernel import piecewise_kernel
+
+        modes = (d_lin, d_hi, d_lo) if net else (d_lin, d_lin, d_lin)
+        piecewise_kernel(
+            np.ascontiguousarray(u, dtype=float),
+            x,
+            np.stack([m.P for m in modes]),
+            np.stack([m.Q for m in modes]),
+            np.stack([m.R for m in modes]),
+            np.asarray(c, float),
+            float(d),
+            float(f),
+            amp.v_high if amp is not None else np.inf,
+            amp.v_low if amp is not None else -np.inf,
+            amp is not None,
+            net,
+            y,
+            pinned,
+        )
+        return y, pinned
 
     def step(dm, xv, s):
         return xv @ dm.P.T + s[:, None] * dm.Q + dm.R

@@ -143,3 +143,23 @@ def test_bad_stage_values_name_the_field():
         OpAmp(v_low=3.0, v_high=1.0)
     with pytest.raises(DesignError, match="stable"):
         TransferStage((1.0,), (1.0, -1.0))
+
+
+def test_compiled_piecewise_equals_array_version():
+    # the same equations in machine code: outputs to 1e-11 V and identical rail flags,
+    # through hard saturation both ways (rail-to-rail in a step included)
+    rng = np.random.default_rng(0)
+    t = np.arange(2000) / 100.0
+    u = 1.0 + rng.uniform(0, 1.5, (40, 1)) * np.sin(2 * math.pi * rng.uniform(0.2, 30, (40, 1)) * t)
+    stages = (
+        NonInvertingBandPass(10e3, 22e-6, 560e3, 27e-9, AMP),
+        InvertingBandPass(22e3, 10e-6, 1e6, 15e-9, AMP, 1.65),
+        TransferStage((0.0, 40.0, 0.0), (0.01, 1.1, 1.0), 1.65, AMP),
+        RCHighPass(1e5, 1e-6),
+    )
+    for st in stages:
+        x0 = np.zeros((40, st.state_model().A.shape[0]))
+        a, pa = piecewise(st, u, 100.0, x0, compiled=True)
+        b, pb = piecewise(st, u, 100.0, x0, compiled=False)
+        np.testing.assert_allclose(a, b, atol=1e-11)
+        np.testing.assert_array_equal(pa, pb)

@@ -1,0 +1,70 @@
+"""The full pipeline over N walks against bare scipy.signal.sosfilt over the same samples
+and the same number of second-order sections.
+
+Run:  python benchmarks/pipeline.py [--walks N] [--method compiled|reference]
+Pipeline: pose + radiometry + optics + sensor + JFET + stages (rails) + comparator + logic.
+Floor: one sosfilt call over (walks × samples) with the sensor's and every stage's sections
+stacked (the filtering the pipeline cannot avoid).
+"""
+
+from __future__ import annotations
+
+import argparse
+import time
+
+import numpy as np
+from scipy import signal
+
+from pirchain.demo import demo_detector, demo_environment
+from pirchain.saturation import stage_sos
+from pirchain.scene import adult, straight_walks
+
+
+def walks(n, seed=1, rate=100.0):
+    rng = np.random.default_rng(seed)
+    dist = rng.uniform(2.0, 25.0, n)
+    b = rng.uniform(-0.9, 0.9, n)
+    c = np.stack([dist * np.cos(b), dist * np.sin(b)], axis=1)
+    perp = np.stack([-np.sin(b), np.cos(b)], axis=1)
+    v = rng.uniform(0.5, 1.5, n)
+    return straight_walks(c - perp * (3.0 * v)[:, None], perp, v, 10.0, rate, lengths=6.0 * v)
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser(description=__doc__)
+    ap.add_argument("--walks", type=int, default=1000)
+    ap.add_argument("--method", default="compiled", choices=("compiled", "reference"))
+    args = ap.parse_args()
+    det, env, tgt = demo_detector(), demo_environment(), adult()
+    det.simulate(tgt, env, walks(4))  # load the compiled kernel
+    w = walks(args.walks)
+    t0 = time.perf_counter()
+    if args.method == "reference":
+        import pirchain.chain as chain_mod
+
+        orig = chain_mod.Detector.element_power
+        chain_mod.Detector.element_power = lambda self, *a, **k: orig(self, *a, method="reference")
+    res = det.simulate(tgt, env, w)
+    t_pipe = time.perf_counter() - t0
+    sos = np.vstack(
+        [det.sensor.sos(w.sample_rate)] + [stage_sos(s, w.sample_rate) for s in det.stages]
+    )
+    x = np.random.default_rng(0).standard_normal((w.n_walks, w.n_samples))
+    t1 = time.perf_counter()
+    signal.sosfilt(sos, x, axis=-1)
+    t_floor = time.perf_counter() - t1
+    n = w.n_walks * w.n_samples
+    print(
+        f"{w.n_walks} walks x {w.n_samples} samples = {n:.3g} samples; "
+        f"{sos.shape[0]} sections; optics: {args.method}; detected {res.detected.mean():.2f}"
+    )
+    print(
+        f"full pipeline: {t_pipe:.3f} s = {n / t_pipe:.3g} samples/s "
+        f"({t_pipe / w.n_walks * 1e6:.1f} us per walk)"
+    )
+    print(f"bare sosfilt, same samples and sections: {t_floor:.4f} s")
+    print(f"ratio pipeline / floor: {t_pipe / t_floor:.1f}")
+
+
+if __name__ == "__main__":
+    main()
