@@ -84,11 +84,18 @@ class SourceFollower:
         below pinch-off gives v_s = 0 (cut off).
         """
         a = self.jfet.pinch_off
-        g = np.asarray(gate_voltage, dtype=float)
         k = self.source_resistance * self.jfet.idss / a**2
-        drive = np.clip(a + g, 0.0, None)
-        w = 2.0 * drive / (1.0 + np.sqrt(1.0 + 4.0 * k * drive))  # stable root of k w² + w = drive
-        return drive - w
+        g = np.asarray(gate_voltage, dtype=float)
+        drive = np.atleast_1d(g) + a  # a fresh array, worked in place
+        np.maximum(drive, 0.0, out=drive)
+        root = drive * (4.0 * k)
+        root += 1.0
+        np.sqrt(root, out=root)
+        root += 1.0  # w = 2 d / (1 + √(1 + 4 k d)), the stable root of k w² + w = d
+        np.divide(drive, root, out=root)
+        root *= 2.0
+        np.subtract(drive, root, out=drive)
+        return drive if g.ndim else float(drive[0])
 
     @property
     def offset(self) -> float:

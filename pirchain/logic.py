@@ -41,6 +41,12 @@ class Pulses:
     sign: np.ndarray
     peak: np.ndarray
 
+    def slice(self, a: int, b: int) -> Pulses:
+        """Pulses a to b (exclusive) of the flattened list."""
+        return Pulses(
+            self.walk[a:b], self.start[a:b], self.end[a:b], self.sign[a:b], self.peak[a:b]
+        )
+
     def of_walk(self, w: int) -> Pulses:
         """The pulses of one walk."""
         k = self.walk == w
@@ -281,8 +287,15 @@ def run_logic(
         inhibit = np.broadcast_to(
             logic.daylight.inhibited(np.broadcast_to(np.asarray(lux, float), vl.shape)), vl.shape
         )
+    # pulses come sorted by walk: cut them into per-walk slices once
+    bounds = np.searchsorted(pulses.walk, np.arange(vl.shape[0] + 1))
     decisions = [
-        decide(pulses.of_walk(w), logic, None if inhibit is None else inhibit[w], ticks)
+        decide(
+            pulses.slice(bounds[w], bounds[w + 1]),
+            logic,
+            None if inhibit is None else inhibit[w],
+            ticks,
+        )
         for w in range(vl.shape[0])
     ]
     return pulses, decisions
