@@ -32,6 +32,7 @@ def main() -> None:
     speed = rng.uniform(0.5, 1.5, n)
     starts = centre - perp * (5.0 * speed)[:, None]
     det, env, tgt = demo_detector(), demo_environment(), adult()
+    det.front_end(tgt, env, straight_walks(starts[:2], perp[:2], speed[:2], 1.0, args.rate))
     t0 = time.perf_counter()
     walks = straight_walks(starts, perp, speed, 10.0, args.rate)
     res = det.front_end(tgt, env, walks)
