@@ -324,14 +324,9 @@ class InvertingBandPass(_OpAmpBandPass):
         return np.array([u_dc - self.v_ref, 0.0])
 
 
-@dataclass(frozen=True)
-class RCHighPass:
-    """Passive RC high-pass: series C, R to v_ref. Driven by a low-impedance source."""
+class _PassiveRC:
+    """Shared checks and corner of the passive RC stages (no op-amp)."""
 
-    r: float
-    c: float
-    v_ref: float = 0.0
-    name: str = "RC high-pass"
     opamp = None
 
     def __post_init__(self):
@@ -343,6 +338,20 @@ class RCHighPass:
     def corner(self) -> float:
         """1/(2π R C) [Hz]."""
         return 1.0 / (2 * math.pi * self.r * self.c)
+
+    def steady_state(self, u_dc: float) -> np.ndarray:
+        """Capacitor voltage with a constant input."""
+        return np.array([u_dc - self.v_ref])
+
+
+@dataclass(frozen=True)
+class RCHighPass(_PassiveRC):
+    """Passive RC high-pass: series C, R to v_ref. Driven by a low-impedance source."""
+
+    r: float
+    c: float
+    v_ref: float = 0.0
+    name: str = "RC high-pass"
 
     def transfer_function(self, gbw: bool = False) -> control.TransferFunction:
         """s R C / (1 + s R C)."""
@@ -355,30 +364,15 @@ class RCHighPass:
             np.array([[-k]]), np.array([k]), np.array([-k * self.v_ref]), np.array([-1.0]), 1.0, 0.0
         )
 
-    def steady_state(self, u_dc: float) -> np.ndarray:
-        """Capacitor voltage with a constant input."""
-        return np.array([u_dc - self.v_ref])
-
 
 @dataclass(frozen=True)
-class RCLowPass:
+class RCLowPass(_PassiveRC):
     """Passive RC low-pass: series R, C to v_ref. Driven by a low-impedance source."""
 
     r: float
     c: float
     v_ref: float = 0.0
     name: str = "RC low-pass"
-    opamp = None
-
-    def __post_init__(self):
-        check_positive("stage.r", self.r, "Ω")
-        check_positive("stage.c", self.c, "F")
-        check_real("stage.v_ref", self.v_ref)
-
-    @property
-    def corner(self) -> float:
-        """1/(2π R C) [Hz]."""
-        return 1.0 / (2 * math.pi * self.r * self.c)
 
     def transfer_function(self, gbw: bool = False) -> control.TransferFunction:
         """1 / (1 + s R C)."""
@@ -395,10 +389,6 @@ class RCLowPass:
             0.0,
             self.v_ref,
         )
-
-    def steady_state(self, u_dc: float) -> np.ndarray:
-        """Capacitor voltage with a constant input."""
-        return np.array([u_dc - self.v_ref])
 
 
 @dataclass(frozen=True)
