@@ -1,4 +1,6 @@
-"""Reference: DESIGN.md §8 (reliability) — Extreme but legal inputs give finite results or a ValidityWarning of our own class, never
+"""Reference: DESIGN.md §8 (reliability).
+
+Extreme but legal inputs give finite results or a ValidityWarning of our own class, never
 NaN or a hang; outputs are atomic; the same inputs and seed give byte-identical JSON."""
 
 import dataclasses

@@ -1,4 +1,6 @@
-"""Reference: DESIGN.md §8 (reliability) — The design-file loader under seeded random mutation of the demo file: every result is a
+"""Reference: DESIGN.md §8 (reliability).
+
+The design-file loader under seeded random mutation of the demo file: every result is a
 valid design or a DesignError with a key path — never another exception (and so never a
 traceback at the command line)."""
 

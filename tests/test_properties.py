@@ -1,4 +1,6 @@
-"""Sources: Property-based tests (hypothesis) on the public physics functions: finite outputs for valid
+"""Sources named below.
+
+Property-based tests (hypothesis) on the public physics functions: finite outputs for valid
 inputs and the invariants of the earlier checks — the inverse-square law (Boyd 1983), linearity
 of the sensor in power (Putley 1970), antisymmetry of the radiance contrast, sign flip of the
 element power with the contrast, op-amp outputs bounded by the rails."""
