@@ -284,7 +284,7 @@ def cmd_range(args):
 
 
 def cmd_sweep(args):
-    from .analysis.sweep import log_values, trade_off
+    from .analysis.sweep import get_path, log_values, trade_off
 
     d = _design(args)
     a = d.analysis
@@ -294,7 +294,7 @@ def cmd_sweep(args):
     elif path == a.sensitivity_path and a.sensitivity_values:
         values = list(a.sensitivity_values)
     else:
-        v0 = float(__import__("pirchain.analysis.sweep", fromlist=["x"]).get_path(d.study(), path))
+        v0 = float(get_path(d.study(), path))
         values = log_values(v0 / 4, v0 * 2, 5)
     budget = (
         a.false_trigger_budget if args.budget is None else parse_quantity(args.budget, "--budget")

@@ -8,6 +8,7 @@ key path, the value and what was expected. The section layout is shown by the bu
 
 from __future__ import annotations
 
+import dataclasses
 import difflib
 import math
 import tomllib
@@ -455,8 +456,6 @@ def _sensor(c):
             ),
         )
     if c["loss_tangent"] is not None:
-        import dataclasses
-
         s = _build("sensor", lambda: dataclasses.replace(s, loss_tangent=c["loss_tangent"]))
     return s
 

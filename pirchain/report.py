@@ -5,10 +5,7 @@ from __future__ import annotations
 import base64
 import datetime
 import html
-import math
 import warnings
-
-import numpy as np
 
 from . import __version__, plots
 from .analysis.coverage import side_view, top_view
@@ -290,5 +287,4 @@ def render(design, data: dict) -> str:
         f"<h2>Cautions</h2><p class='caution'>{html.escape(CAUTIONS)}</p>",
         "</body></html>",
     ]
-    _ = math, np
     return "\n".join(parts)
