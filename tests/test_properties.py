@@ -42,13 +42,12 @@ def test_contrast_antisymmetric(t1, t2, eps, ts):
 @FAST
 @given(
     st.floats(0.02, 2.0),
-    st.floats(0.3, 300.0),
     st.floats(1e9, 2e11),
     st.floats(-0.2, 0.2),
     st.floats(-50.0, 50.0),
     st.integers(0, 10**6),
 )
-def test_sensor_linear_in_power(tau_t, tau_e_scale, r_g, mismatch, gain, seed):
+def test_sensor_linear_in_power(tau_t, r_g, mismatch, gain, seed):
     s = PyroSensor.from_material(
         thermal_time_constant=tau_t, gate_resistance=r_g, mismatch=mismatch
     )
@@ -57,7 +56,6 @@ def test_sensor_linear_in_power(tau_t, tau_e_scale, r_g, mismatch, gain, seed):
     v2 = gate_voltage(s, gain * p, 100.0)
     assert np.all(np.isfinite(v1))
     np.testing.assert_allclose(v2, gain * v1, rtol=1e-9, atol=1e-18)
-    del tau_e_scale
 
 
 @FAST
