@@ -10,6 +10,20 @@ import numba
 import numpy as np
 
 
+@numba.njit(cache=True)
+def _step(p_all, q_all, r_all, m, x, s, xn, c, y0):
+    """One trapezoidal step in mode m into ``xn``; returns the linear output y0 + c·xn."""
+    n = x.shape[0]
+    y = y0
+    for i in range(n):
+        acc = q_all[m, i] * s + r_all[m, i]
+        for j in range(n):
+            acc += p_all[m, i, j] * x[j]
+        xn[i] = acc
+        y += c[i] * acc
+    return y
+
+
 @numba.njit(cache=True, parallel=True)
 def piecewise_kernel(u, x0, p_all, q_all, r_all, c, d, f, v_hi, v_lo, has_amp, net, y, pinned):
     """Integrate (walks, samples) inputs; ``p_all`` etc. hold modes linear, high, low."""
@@ -31,25 +45,10 @@ def piecewise_kernel(u, x0, p_all, q_all, r_all, c, d, f, v_hi, v_lo, has_amp, n
         pinned[w, 0] = mode != 0
         for t in range(n_t - 1):
             s = u[w, t] + u[w, t + 1]
-            m = mode if net else 0
-            for i in range(n):
-                acc = q_all[m, i] * s + r_all[m, i]
-                for j in range(n):
-                    acc += p_all[m, i, j] * x[j]
-                xn[i] = acc
-            yl = d * u[w, t + 1] + f
-            for i in range(n):
-                yl += c[i] * xn[i]
+            yl = _step(p_all, q_all, r_all, mode if net else 0, x, s, xn, c, d * u[w, t + 1] + f)
             if net and mode == 0 and (yl > v_hi or yl < v_lo):
                 mode = 1 if yl > v_hi else 2
-                for i in range(n):
-                    acc = q_all[mode, i] * s + r_all[mode, i]
-                    for j in range(n):
-                        acc += p_all[mode, i, j] * x[j]
-                    xn[i] = acc
-                yl = d * u[w, t + 1] + f
-                for i in range(n):
-                    yl += c[i] * xn[i]
+                yl = _step(p_all, q_all, r_all, mode, x, s, xn, c, d * u[w, t + 1] + f)
             for i in range(n):
                 x[i] = xn[i]
             if has_amp:

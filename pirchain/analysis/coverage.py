@@ -16,7 +16,7 @@ import numpy as np
 
 from ..errors import DesignError, check_positive
 from .false_triggers import comparator_sources
-from .walk_tests import WalkSet, detect
+from .walk_tests import WalkSet, detect, walk_heading
 
 
 @dataclass(frozen=True)
@@ -76,7 +76,7 @@ def top_view(
     cy = np.repeat(cy, trials) + rng.uniform(-0.5, 0.5, cy.size * trials) * cell
     rho = np.maximum(np.hypot(cx, cy), 0.05)
     los = np.stack([cx / rho, cy / rho], axis=1)
-    head = np.stack([-los[:, 1], los[:, 0]], axis=1) if kind == "tangential" else -los
+    head = walk_heading(los, kind)
     walks = WalkSet(
         np.stack([cx, cy], axis=1),
         head,

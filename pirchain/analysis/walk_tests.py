@@ -125,6 +125,12 @@ class WalkSet:
     length: float
 
 
+def walk_heading(los: np.ndarray, kind: str) -> np.ndarray:
+    """Walking direction for a line of sight (n, 2): across it (counter-clockwise) or toward
+    the detector."""
+    return np.stack([-los[:, 1], los[:, 0]], axis=1) if kind == "tangential" else -los
+
+
 def make_walks(
     distance,
     bearing_deg,
@@ -152,9 +158,9 @@ def make_walks(
         raise DesignError("walk", "distance/speed", "distances and speeds > 0")
     br = np.radians(b)
     los = np.stack([np.cos(br), np.sin(br)], axis=1)
-    head = np.stack([-los[:, 1], los[:, 0]], axis=1) if kind == "tangential" else -los
+    head = walk_heading(los, kind)
     shift = np.random.default_rng(seed).uniform(-0.5, 0.5, d.size) * jitter * d
-    side = np.stack([-los[:, 1], los[:, 0]], axis=1)
+    side = walk_heading(los, "tangential")
     centre = d[:, None] * los + shift[:, None] * side
     return WalkSet(centre, head, v, float(length))
 
