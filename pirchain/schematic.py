@@ -13,6 +13,12 @@ from .frontend import InvertingBandPass, NonInvertingBandPass, RCHighPass, RCLow
 from .units import format_eng
 
 
+def _to_ground(d, element, label: str, loc: str = "bottom") -> None:
+    """A component from the current point down to ground."""
+    d += element().down().label(label, loc=loc, fontsize=9)
+    d += elm.Ground()
+
+
 def _feedback_below(d, node, op, st, k, drop):
     """Rf ∥ Cf from the − node, routed below the op-amp to its output."""
     d += elm.Line().at(node).down(drop)
@@ -80,19 +86,9 @@ def schematic_svg(detector) -> bytes:
         d += elm.SourceI().up().label("i_pyro", loc="top", fontsize=9)
         gate = d.here
         d += elm.Line().right(2.0)
-        d += (
-            elm.Resistor()
-            .down()
-            .label(f"R_G {format_eng(s.gate_resistance, 'Ω')}", loc="bottom", fontsize=9)
-        )
-        d += elm.Ground()
+        _to_ground(d, elm.Resistor, f"R_G {format_eng(s.gate_resistance, 'Ω')}")
         d += elm.Line().at(gate).right(4.0)
-        d += (
-            elm.Capacitor()
-            .down()
-            .label(f"C_gate {format_eng(s.gate_capacitance, 'F')}", loc="bottom", fontsize=9)
-        )
-        d += elm.Ground()
+        _to_ground(d, elm.Capacitor, f"C_gate {format_eng(s.gate_capacitance, 'F')}")
         d += elm.Line().at(gate).right(6.0)
         j = d.add(
             elm.JFetN()
@@ -107,27 +103,18 @@ def schematic_svg(detector) -> bytes:
         d += elm.Vdd().label("V_DD", fontsize=8)
         d += elm.Line().at(j.source).right(1.2)
         src = d.here
-        d += (
-            elm.Resistor().down().label(f"R_S {format_eng(fol.source_resistance, 'Ω')}", fontsize=9)
-        )
-        d += elm.Ground()
+        _to_ground(d, elm.Resistor, f"R_S {format_eng(fol.source_resistance, 'Ω')}", "top")
         d += elm.Line().at(src).right(2.5)
         for k, st in enumerate(detector.stages, start=1):
             if isinstance(st, (NonInvertingBandPass, InvertingBandPass)):
                 _opamp_stage(d, st, k)
-            elif isinstance(st, RCHighPass):
-                d += elm.Capacitor().right().label(f"{format_eng(st.c, 'F')}", fontsize=9)
+            elif isinstance(st, (RCHighPass, RCLowPass)):
+                r = (elm.Resistor, format_eng(st.r, "Ω"))
+                c = (elm.Capacitor, format_eng(st.c, "F"))
+                series, shunt = (c, r) if isinstance(st, RCHighPass) else (r, c)
+                d += series[0]().right().label(series[1], fontsize=9)
                 n = d.here
-                d += elm.Resistor().down().label(f"{format_eng(st.r, 'Ω')}", fontsize=9)
-                d += elm.Ground()
-                d.move_from(n, 0, 0)
-                d += elm.Line().at(n).right(1)
-            elif isinstance(st, RCLowPass):
-                d += elm.Resistor().right().label(f"{format_eng(st.r, 'Ω')}", fontsize=9)
-                n = d.here
-                d += elm.Capacitor().down().label(f"{format_eng(st.c, 'F')}", fontsize=9)
-                d += elm.Ground()
-                d.move_from(n, 0, 0)
+                _to_ground(d, shunt[0], shunt[1], "top")
                 d += elm.Line().at(n).right(1)
             else:
                 d += elm.Line().right(0.5)

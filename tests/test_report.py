@@ -53,26 +53,20 @@ def test_report_sections_images_and_escaping(tmp_path, capsys):
 def test_readme_main_command_writes_the_demo_report(tmp_path):
     # README: `python3 -m pip install . && pirchain` — the installed entry point is the CLI
     # module's main(); run it with no arguments in an empty folder.
-    env = dict(os.environ, MPLBACKEND="Agg")
-    proc = subprocess.run(
-        [sys.executable, "-m", "pirchain.cli"],
-        cwd=tmp_path,
-        capture_output=True,
-        text=True,
-        env=env,
-        check=False,
-        timeout=600,
-    )
+    def run_main():
+        return subprocess.run(
+            [sys.executable, "-m", "pirchain.cli"],
+            cwd=tmp_path,
+            capture_output=True,
+            text=True,
+            check=False,
+            timeout=600,
+            env=dict(os.environ, MPLBACKEND="Agg"),
+        )
+
+    proc = run_main()
     assert proc.returncode == 0, proc.stderr
     assert (tmp_path / "pirchain-report.html").exists()
     assert "accredited laboratory" in proc.stdout
-    again = subprocess.run(
-        [sys.executable, "-m", "pirchain.cli"],
-        cwd=tmp_path,
-        capture_output=True,
-        text=True,
-        env=env,
-        check=False,
-        timeout=600,
-    )
+    again = run_main()
     assert again.returncode == 0 and (tmp_path / "pirchain-report-2.html").exists()
