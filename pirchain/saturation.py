@@ -67,6 +67,56 @@ def _has_network(stage) -> bool:
     return isinstance(stage, (NonInvertingBandPass, InvertingBandPass))
 
 
+@dataclass(frozen=True)
+class StageTables:
+    """A stage's trapezoidal matrices in the modes linear, high rail, low rail (P, Q, R stacked
+    on the first axis), output row C, D, f, rails, and steady state x = a + b u_dc."""
+
+    P: np.ndarray
+    Q: np.ndarray
+    R: np.ndarray
+    C: np.ndarray
+    D: float
+    F: float
+    v_high: float
+    v_low: float
+    net: bool
+    x_rest: np.ndarray
+    x_per_volt: np.ndarray
+
+
+def stage_tables(stage, sample_rate: float) -> StageTables:
+    """Pack a stage for the piecewise integration at ``sample_rate`` [Hz]."""
+    h = 1.0 / sample_rate
+    lin = stage.state_model()
+    amp = stage.opamp
+    net = amp is not None and _has_network(stage)
+    d_lin = _trapezoid(lin, h)
+    modes = (
+        (
+            d_lin,
+            _trapezoid(stage.state_model(amp.v_high), h),
+            _trapezoid(stage.state_model(amp.v_low), h),
+        )
+        if net
+        else (d_lin, d_lin, d_lin)
+    )
+    x_rest = np.asarray(stage.steady_state(0.0), dtype=float)
+    return StageTables(
+        np.stack([m.P for m in modes]),
+        np.stack([m.Q for m in modes]),
+        np.stack([m.R for m in modes]),
+        np.asarray(lin.C, dtype=float),
+        float(lin.D),
+        float(lin.f),
+        amp.v_high if amp is not None else np.inf,
+        amp.v_low if amp is not None else -np.inf,
+        net,
+        x_rest,
+        np.asarray(stage.steady_state(1.0), dtype=float) - x_rest,
+    )
+
+
 def piecewise(stage, u: np.ndarray, sample_rate: float, x0: np.ndarray, compiled: bool = True):
     """Exact linear / pinned integration of one stage for a batch of walks.
 
@@ -91,34 +141,30 @@ def piecewise(stage, u: np.ndarray, sample_rate: float, x0: np.ndarray, compiled
     ``compiled=False`` runs the array version (all walks advanced together per sample), the
     reference for the compiled kernel of :mod:`pirchain.saturation_kernel`.
     """
-    h = 1.0 / sample_rate
-    lin = stage.state_model()
-    amp = stage.opamp
-    d_lin = _trapezoid(lin, h)
-    net = amp is not None and _has_network(stage)
-    if net:
-        d_hi = _trapezoid(stage.state_model(amp.v_high), h)
-        d_lo = _trapezoid(stage.state_model(amp.v_low), h)
+    tab = stage_tables(stage, sample_rate)
+    amp, net = stage.opamp, tab.net
+    d_lin = _Discrete(tab.P[0], tab.Q[0], tab.R[0])
+    d_hi = _Discrete(tab.P[1], tab.Q[1], tab.R[1])
+    d_lo = _Discrete(tab.P[2], tab.Q[2], tab.R[2])
     w, t = u.shape
     y = np.empty((w, t))
     pinned = np.zeros((w, t), dtype=bool)
     x = np.array(x0, dtype=float, copy=True)
-    c, d, f = lin.C, lin.D, lin.f
+    c, d, f = tab.C, tab.D, tab.F
     if compiled:
         from .saturation_kernel import piecewise_kernel
 
-        modes = (d_lin, d_hi, d_lo) if net else (d_lin, d_lin, d_lin)
         piecewise_kernel(
             np.ascontiguousarray(u, dtype=float),
             x,
-            np.stack([m.P for m in modes]),
-            np.stack([m.Q for m in modes]),
-            np.stack([m.R for m in modes]),
-            np.asarray(c, float),
-            float(d),
-            float(f),
-            amp.v_high if amp is not None else np.inf,
-            amp.v_low if amp is not None else -np.inf,
+            tab.P,
+            tab.Q,
+            tab.R,
+            c,
+            d,
+            f,
+            tab.v_high,
+            tab.v_low,
             amp is not None,
             net,
             y,

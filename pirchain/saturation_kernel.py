@@ -24,44 +24,167 @@ def _step(p_all, q_all, r_all, m, x, s, xn, c, y0):
     return y
 
 
+@numba.njit(cache=True)
+def piecewise_walk(u, x0, p_all, q_all, r_all, c, d, f, v_hi, v_lo, has_amp, net, y, pinned):
+    """Integrate one walk's input ``u`` (samples,) from states ``x0`` into ``y``, ``pinned``.
+
+    ``p_all`` etc. hold the trapezoidal matrices of the modes linear, high rail, low rail;
+    ``y`` may be the same array as ``u`` (each input sample is read before it is written).
+    """
+    n_t = u.shape[0]
+    n = x0.shape[0]
+    x = x0.copy()
+    xn = np.empty(n)
+    y_lin = d * u[0] + f
+    for i in range(n):
+        y_lin += c[i] * x[i]
+    mode = 0
+    if has_amp:
+        if y_lin > v_hi:
+            mode = 1
+        elif y_lin < v_lo:
+            mode = 2
+    u_prev = u[0]
+    y[0] = v_hi if mode == 1 else (v_lo if mode == 2 else y_lin)
+    pinned[0] = mode != 0
+    for t in range(n_t - 1):
+        u_next = u[t + 1]
+        s = u_prev + u_next
+        u_prev = u_next
+        yl = _step(p_all, q_all, r_all, mode if net else 0, x, s, xn, c, d * u_next + f)
+        if net and mode == 0 and (yl > v_hi or yl < v_lo):
+            mode = 1 if yl > v_hi else 2
+            yl = _step(p_all, q_all, r_all, mode, x, s, xn, c, d * u_next + f)
+        for i in range(n):
+            x[i] = xn[i]
+        if has_amp:
+            if net:
+                if mode == 1 and yl <= v_hi:
+                    mode = 0
+                elif mode == 2 and yl >= v_lo:
+                    mode = 0
+                if mode == 0 and yl > v_hi:
+                    mode = 1
+                elif mode == 0 and yl < v_lo:
+                    mode = 2
+            else:
+                mode = 1 if yl > v_hi else (2 if yl < v_lo else 0)
+        y[t + 1] = v_hi if mode == 1 else (v_lo if mode == 2 else yl)
+        pinned[t + 1] = mode != 0
+
+
 @numba.njit(cache=True, parallel=True)
 def piecewise_kernel(u, x0, p_all, q_all, r_all, c, d, f, v_hi, v_lo, has_amp, net, y, pinned):
     """Integrate (walks, samples) inputs; ``p_all`` etc. hold modes linear, high, low."""
-    n_w, n_t = u.shape
-    n = x0.shape[1]
-    for w in numba.prange(n_w):
-        x = x0[w].copy()
-        xn = np.empty(n)
-        y_lin = d * u[w, 0] + f
-        for i in range(n):
-            y_lin += c[i] * x[i]
-        mode = 0
-        if has_amp:
-            if y_lin > v_hi:
-                mode = 1
-            elif y_lin < v_lo:
-                mode = 2
-        y[w, 0] = v_hi if mode == 1 else (v_lo if mode == 2 else y_lin)
-        pinned[w, 0] = mode != 0
-        for t in range(n_t - 1):
-            s = u[w, t] + u[w, t + 1]
-            yl = _step(p_all, q_all, r_all, mode if net else 0, x, s, xn, c, d * u[w, t + 1] + f)
-            if net and mode == 0 and (yl > v_hi or yl < v_lo):
-                mode = 1 if yl > v_hi else 2
-                yl = _step(p_all, q_all, r_all, mode, x, s, xn, c, d * u[w, t + 1] + f)
-            for i in range(n):
-                x[i] = xn[i]
-            if has_amp:
-                if net:
-                    if mode == 1 and yl <= v_hi:
-                        mode = 0
-                    elif mode == 2 and yl >= v_lo:
-                        mode = 0
-                    if mode == 0 and yl > v_hi:
-                        mode = 1
-                    elif mode == 0 and yl < v_lo:
-                        mode = 2
-                else:
-                    mode = 1 if yl > v_hi else (2 if yl < v_lo else 0)
-            y[w, t + 1] = v_hi if mode == 1 else (v_lo if mode == 2 else yl)
-            pinned[w, t + 1] = mode != 0
+    for w in numba.prange(u.shape[0]):
+        piecewise_walk(
+            u[w], x0[w], p_all, q_all, r_all, c, d, f, v_hi, v_lo, has_amp, net, y[w], pinned[w]
+        )
+
+
+@numba.njit(inline="always")
+def _coef2(p, q, r, c, d, f, m):
+    """Mode ``m``'s coefficients of a ≤ 2-state stage as one tuple of scalars, so that the
+    sample loop holds them in registers and touches no arrays."""
+    return (p[m, 0, 0], p[m, 0, 1], p[m, 1, 0], p[m, 1, 1], q[m, 0], q[m, 1], r[m, 0],
+            r[m, 1], c[0], c[1], d, f)  # fmt: skip
+
+
+@numba.njit(inline="always")
+def _step2(k, x_0, x_1, ss, y0):
+    """One trapezoidal step with coefficients ``k``: (x0', x1', y_lin)."""
+    n0 = k[0] * x_0 + k[1] * x_1 + k[4] * ss + k[6]
+    n1 = k[2] * x_0 + k[3] * x_1 + k[5] * ss + k[7]
+    return n0, n1, y0 + k[8] * n0 + k[9] * n1
+
+
+@numba.njit(inline="always")
+def _start2(k, x_0, x_1, u0, v_hi, v_lo, has_amp):
+    """Output and mode at the first sample: (y, mode)."""
+    yl = k[10] * u0 + k[11] + k[8] * x_0 + k[9] * x_1
+    m = 0
+    if has_amp:
+        m = 1 if yl > v_hi else (2 if yl < v_lo else 0)
+    return (v_hi if m == 1 else (v_lo if m == 2 else yl)), m
+
+
+@numba.njit(inline="always")
+def _sample2(k0, k1, k2, v_hi, v_lo, has_amp, net, x_0, x_1, m, u_prev, u_next):
+    """One sample of :func:`piecewise_walk`'s rules for a ≤ 2-state stage whose modes have
+    coefficients k0 (linear), k1 (high rail), k2 (low rail). Returns (x0', x1', mode', y)."""
+    ss = u_prev + u_next
+    y0 = k0[10] * u_next + k0[11]
+    if m == 0 or not net:
+        n0, n1, yl = _step2(k0, x_0, x_1, ss, y0)
+    else:
+        n0, n1, yl = _step2(k1 if m == 1 else k2, x_0, x_1, ss, y0)
+    if net and m == 0 and (yl > v_hi or yl < v_lo):
+        m = 1 if yl > v_hi else 2
+        n0, n1, yl = _step2(k1 if m == 1 else k2, x_0, x_1, ss, y0)
+    if has_amp:
+        if net:
+            if m == 1 and yl <= v_hi:
+                m = 0
+            elif m == 2 and yl >= v_lo:
+                m = 0
+            if m == 0 and yl > v_hi:
+                m = 1
+            elif m == 0 and yl < v_lo:
+                m = 2
+        else:
+            m = 1 if yl > v_hi else (2 if yl < v_lo else 0)
+    return n0, n1, m, (v_hi if m == 1 else (v_lo if m == 2 else yl))
+
+
+@numba.njit(cache=True)
+def piecewise_walk2(u, x0, p, q, r, c, d, f, v_hi, v_lo, has_amp, net, y):
+    """:func:`piecewise_walk` for a stage of at most 2 states (tables padded to 2), with the
+    coefficients and the states in registers; ``y`` may be ``u``."""
+    k0, k1, k2 = (
+        _coef2(p, q, r, c, d, f, 0),
+        _coef2(p, q, r, c, d, f, 1),
+        _coef2(p, q, r, c, d, f, 2),
+    )
+    u_prev = u[0]
+    x_0, x_1 = x0[0], x0[1]
+    y[0], m = _start2(k0, x_0, x_1, u_prev, v_hi, v_lo, has_amp)
+    for t in range(1, u.shape[0]):
+        u_next = u[t]
+        x_0, x_1, m, yt = _sample2(
+            k0, k1, k2, v_hi, v_lo, has_amp, net, x_0, x_1, m, u_prev, u_next
+        )
+        y[t] = yt
+        u_prev = u_next
+
+
+@numba.njit(cache=True)
+def piecewise_pair2(sig, xa, xb, ta, tb):
+    """Two ≤ 2-state stages in series over one walk in a single pass, in place (their
+    recursions overlap in the CPU). ``ta``/``tb`` = (p, q, r, c, d, f, v_hi, v_lo, has_amp,
+    net) of :func:`piecewise_walk2`; ``xa`` the first's initial states; ``xb`` the second's
+    steady state (rest and per-volt value of each state), started with the first's initial
+    output."""
+    pa, qa, ra, ca, da, fa, ha, la, amp_a, net_a = ta
+    pb, qb, rb, cb, db, fb, hb, lb, amp_b, net_b = tb
+    a0k, a1k, a2k = (
+        _coef2(pa, qa, ra, ca, da, fa, 0),
+        _coef2(pa, qa, ra, ca, da, fa, 1),
+        _coef2(pa, qa, ra, ca, da, fa, 2),
+    )
+    b0k, b1k, b2k = (
+        _coef2(pb, qb, rb, cb, db, fb, 0),
+        _coef2(pb, qb, rb, cb, db, fb, 1),
+        _coef2(pb, qb, rb, cb, db, fb, 2),
+    )
+    ua = sig[0]
+    a0, a1 = xa[0], xa[1]
+    ub, ma = _start2(a0k, a0, a1, ua, ha, la, amp_a)
+    b0, b1 = xb[0] + xb[1] * ub, xb[2] + xb[3] * ub
+    sig[0], mb = _start2(b0k, b0, b1, ub, hb, lb, amp_b)
+    for t in range(1, sig.shape[0]):
+        u_next = sig[t]
+        a0, a1, ma, ya = _sample2(a0k, a1k, a2k, ha, la, amp_a, net_a, a0, a1, ma, ua, u_next)
+        ua = u_next
+        b0, b1, mb, yb = _sample2(b0k, b1k, b2k, hb, lb, amp_b, net_b, b0, b1, mb, ub, ya)
+        ub = ya
+        sig[t] = yb

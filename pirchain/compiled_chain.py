@@ -1,0 +1,260 @@
+"""The whole chain in one compiled pass per walk: optics to decisions, no stored waveforms.
+
+For every walk (walks split over the CPU cores) the kernel runs, on buffers the size of one
+walk: the optics of :mod:`pirchain.optics_kernel` folded straight into the equivalent gate
+power Σ c_k P_k, the sensor's sections (direct form II transposed, as ``scipy.signal.sosfilt``),
+the JFET follower's square law, every stage's linear / rail-pinned trapezoidal integration of
+:mod:`pirchain.saturation_kernel` (started in steady state with its first input, as
+:func:`pirchain.saturation.run_stage`), optional added noise, and the comparator and rules of
+:mod:`pirchain.logic_kernel`. It is the same model as :meth:`pirchain.chain.Detector.simulate`
+(tested equal to rounding); it keeps per-walk outcomes instead of every waveform, which is
+what range, coverage and sweep studies need.
+"""
+
+from __future__ import annotations
+
+import functools
+import math
+from dataclasses import dataclass
+
+import numba
+import numpy as np
+
+from .errors import DesignError
+from .logic import PulseLogic
+from .logic_kernel import inhibit_table, logic_tables, logic_walk
+from .optics_kernel import compact_heading, pack_beams, pack_parts, walk_power
+from .saturation import stage_tables
+from .saturation_kernel import piecewise_pair2, piecewise_walk, piecewise_walk2
+
+
+@dataclass(frozen=True)
+class WalkOutcomes:
+    """Per-walk outcomes of a batch.
+
+    Attributes
+    ----------
+    detected : numpy.ndarray of bool
+        The output turned on.
+    first_on : numpy.ndarray
+        First turn-on time [s], NaN where never.
+    pulses, triggers, turn_ons : numpy.ndarray of int
+        Pulses outside the window, rule firings (retriggers included), output turn-ons.
+    peak : numpy.ndarray
+        Largest |comparator input − rest level| [V] (added noise included).
+    comparator_input : numpy.ndarray or None
+        (walks, samples) [V] when asked for.
+    """
+
+    detected: np.ndarray
+    first_on: np.ndarray
+    pulses: np.ndarray
+    triggers: np.ndarray
+    turn_ons: np.ndarray
+    peak: np.ndarray
+    comparator_input: np.ndarray | None = None
+
+
+@numba.njit(cache=True, error_model="numpy")
+def analog_walk(sig, sensor_sos, jfet, pw):
+    """Equivalent power (samples,) [W] → comparator input [V] in place, for one walk.
+
+    One pass runs the sensor's sections (from rest: the first sample's power has been there
+    for ever) and the JFET square law; then every stage runs the exact linear / rail-pinned
+    integration from its steady state with its first input (as
+    :func:`pirchain.saturation.run_stage`; in linear mode it equals the sections to
+    rounding). ``pw`` = the tables of :func:`_pack_stages`.
+    """
+    n_t = sig.shape[0]
+    p0 = sig[0]
+    for t in range(n_t):
+        sig[t] -= p0
+    for k in range(sensor_sos.shape[0]):  # one section at a time, its state in registers
+        b0, b1, b2 = sensor_sos[k, 0], sensor_sos[k, 1], sensor_sos[k, 2]
+        a1, a2 = sensor_sos[k, 4], sensor_sos[k, 5]
+        z0 = z1 = 0.0
+        for t in range(n_t):  # direct form II transposed, as scipy.signal.sosfilt
+            x = sig[t]
+            y = b0 * x + z0
+            z0 = b1 * x - a1 * y + z1
+            z1 = b2 * x - a2 * y
+            sig[t] = y
+    a, k4 = jfet[0], jfet[1]
+    for t in range(n_t):  # v_s = d − 2d / (1 + √(1 + 4 k d)), d = max(v_g + |V_P|, 0)
+        d = max(sig[t] + a, 0.0)
+        sig[t] = d - 2.0 * d / (1.0 + math.sqrt(1.0 + k4 * d))
+    pin_n, pin_p, pin_q, pin_r, pin_c, pin_df, pin_rail, pin_flags, pin_x0 = pw
+    n_s = pin_n.shape[0]
+    if pin_p.shape[2] > 2:  # a stage with more than 2 states: the general integration
+        for s in range(n_s):
+            n = pin_n[s]
+            x0 = pin_x0[s, 0, :n] + pin_x0[s, 1, :n] * sig[0]
+            piecewise_walk(
+                sig, x0, pin_p[s, :, :n, :n], pin_q[s, :, :n], pin_r[s, :, :n], pin_c[s, :n],
+                pin_df[s, 0], pin_df[s, 1], pin_rail[s, 0], pin_rail[s, 1],
+                pin_flags[s, 0] > 0, pin_flags[s, 1] > 0, sig, np.empty(n_t, dtype=np.bool_),
+            )  # fmt: skip
+        return
+    s = 0
+    while s < n_s:
+        x0 = pin_x0[s, 0] + pin_x0[s, 1] * sig[0]
+        ta = (
+            pin_p[s], pin_q[s], pin_r[s], pin_c[s], pin_df[s, 0], pin_df[s, 1],
+            pin_rail[s, 0], pin_rail[s, 1], pin_flags[s, 0] > 0, pin_flags[s, 1] > 0,
+        )  # fmt: skip
+        if s + 1 == n_s:
+            pa, qa, ra, ca, da, fa, ha, la, am, ne = ta
+            piecewise_walk2(sig, x0, pa, qa, ra, ca, da, fa, ha, la, am, ne, sig)
+            return
+        b = s + 1
+        tb = (
+            pin_p[b], pin_q[b], pin_r[b], pin_c[b], pin_df[b, 0], pin_df[b, 1],
+            pin_rail[b, 0], pin_rail[b, 1], pin_flags[b, 0] > 0, pin_flags[b, 1] > 0,
+        )  # fmt: skip
+        xb = np.array([pin_x0[b, 0, 0], pin_x0[b, 1, 0], pin_x0[b, 0, 1], pin_x0[b, 1, 1]])
+        piecewise_pair2(sig, x0, xb, ta, tb)
+        s += 2
+
+
+@numba.njit(cache=True, parallel=True, error_model="numpy")
+def _chain_kernel(
+    pos, head, parts, h, beams, sensor_sos, jfet, pw, extra, rest, wave, lg, inhibit,
+    out_i, out_f,
+):  # fmt: skip
+    n_w, n_t = pos.shape[0], pos.shape[1]
+    n_p = parts.shape[1]
+    has_extra = extra.shape[1] > 0
+    keep = wave.shape[1] > 0
+    has_inhibit = inhibit.shape[1] > 0
+    lg_index, lg_frac, lg_interp, lg_ticks, lg_comp, lg_rules = lg
+    for w in numba.prange(n_w):
+        acc = np.zeros((1, n_t))
+        az = np.empty(n_t)
+        ah = np.empty((n_p, n_t))
+        s0 = np.empty((n_p, n_t))
+        s1 = np.empty((n_p, n_t))
+        walk_power(pos[w], head[w], parts, h, beams, acc, az, ah, s0, s1)
+        sig = acc[0]
+        analog_walk(sig, sensor_sos, jfet, pw)
+        if has_extra:
+            for t in range(n_t):
+                sig[t] += extra[w, t]
+        if keep:
+            for t in range(n_t):
+                wave[w, t] = sig[t]
+        peak = 0.0
+        for t in range(n_t):
+            peak = max(peak, abs(sig[t] - rest))
+        n_pul, n_tr, n_on, first = logic_walk(
+            sig, lg_index, lg_frac, lg_interp, lg_ticks, lg_comp, lg_rules, inhibit[w],
+            has_inhibit,
+        )  # fmt: skip
+        out_i[w, 0], out_i[w, 1], out_i[w, 2] = n_pul, n_tr, n_on
+        out_f[w, 0], out_f[w, 1] = first, peak
+
+
+def _normalised_sos(sos: np.ndarray) -> np.ndarray:
+    sos = np.array(sos, dtype=float)
+    return np.ascontiguousarray(sos / sos[:, 3:4])
+
+
+def _pack_stages(stages, sample_rate: float):
+    tabs = [stage_tables(st, sample_rate) for st in stages]
+    n_s = len(tabs)
+    n_max = max([t.C.size for t in tabs] + [2])
+    p = np.zeros((n_s, 3, n_max, n_max))
+    q = np.zeros((n_s, 3, n_max))
+    r = np.zeros((n_s, 3, n_max))
+    c = np.zeros((n_s, n_max))
+    x0 = np.zeros((n_s, 2, n_max))
+    n = np.array([t.C.size for t in tabs], dtype=np.int64)
+    for i, t in enumerate(tabs):
+        m = t.C.size
+        p[i, :, :m, :m], q[i, :, :m], r[i, :, :m], c[i, :m] = t.P, t.Q, t.R, t.C
+        x0[i, 0, :m], x0[i, 1, :m] = t.x_rest, t.x_per_volt
+    df = np.array([[t.D, t.F] for t in tabs]).reshape(n_s, 2)
+    rail = np.array([[t.v_high, t.v_low] for t in tabs]).reshape(n_s, 2)
+    has_amp = [st.opamp is not None for st in stages]
+    flags = np.array([[a, t.net] for a, t in zip(has_amp, tabs, strict=True)], dtype=np.int64)
+    return n, p, q, r, c, df, rail, flags.reshape(n_s, 2), x0
+
+
+def supports(target) -> bool:
+    """Whether the compiled pass covers this target (static body parts, no swinging arm)."""
+    return target.swing is None and bool(target.parts)
+
+
+@functools.lru_cache(maxsize=16)
+def _detector_tables(detector, sample_rate: float):
+    """Packed beams, sensor sections, JFET, stages and rest level (cached per design)."""
+    sensor = detector.sensor
+    coupling = np.asarray(sensor.coupling, dtype=float)
+    beams = detector.beams()
+    weight = beams.weight * coupling[beams.element] * sensor.window_transmittance
+    jf = detector.follower.jfet
+    k4 = 4.0 * detector.follower.source_resistance * jf.idss / jf.pinch_off**2
+    return (
+        pack_beams(beams, weight, np.zeros(beams.azimuth.size)),
+        _normalised_sos(sensor.sos(sample_rate)),
+        np.array([jf.pinch_off, k4]),
+        _pack_stages(detector.stages, sample_rate),
+        float(detector.rest_levels()[-1]),
+    )
+
+
+@functools.lru_cache(maxsize=16)
+def _target_table(target, env, band):
+    return pack_parts(target, target.radiance_contrast(env, band))
+
+
+@functools.lru_cache(maxsize=16)
+def _logic_tables(comparator, logic, n_samples: int, sample_rate: float):
+    return logic_tables(comparator, logic, n_samples, sample_rate)
+
+
+def run_compiled(
+    detector, target, env, walks, lux=None, extra=None, keep_waveform=False
+) -> WalkOutcomes:
+    """Run a batch through :func:`_chain_kernel` (see :meth:`Detector.outcomes`)."""
+    fs = walks.sample_rate
+    n_w, n_t = walks.n_walks, walks.n_samples
+    beams, sensor_sos, jfet, stages, rest = _detector_tables(detector, fs)
+    logic = detector.logic or PulseLogic()
+    lt = _logic_tables(detector.comparator, logic, n_t, fs)
+    inhibit = inhibit_table(logic, lux, n_w, lt.ticks.size)
+    if extra is None:
+        extra = np.zeros((n_w, 0))
+    else:
+        extra = np.asarray(extra, dtype=float)
+        if extra.shape != (n_w, n_t) or not np.all(np.isfinite(extra)):
+            raise DesignError("extra", extra.shape, f"finite values of shape ({n_w}, {n_t})")
+        extra = np.ascontiguousarray(extra)
+    wave = np.empty((n_w, n_t if keep_waveform else 0))
+    out_i = np.zeros((n_w, 3), dtype=np.int64)
+    out_f = np.zeros((n_w, 2))
+    _chain_kernel(
+        np.ascontiguousarray(walks.position, dtype=float),
+        compact_heading(walks),
+        _target_table(target, env, detector.sensor.band),
+        float(detector.mount.height),
+        beams,
+        sensor_sos,
+        jfet,
+        stages,
+        extra,
+        rest,
+        wave,
+        (lt.index, lt.frac, lt.interpolate, lt.ticks, lt.comparator, lt.rules),
+        inhibit,
+        out_i,
+        out_f,
+    )
+    return WalkOutcomes(
+        out_i[:, 2] > 0,
+        out_f[:, 0],
+        out_i[:, 0],
+        out_i[:, 1],
+        out_i[:, 2],
+        out_f[:, 1],
+        wave if keep_waveform else None,
+    )
