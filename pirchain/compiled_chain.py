@@ -20,12 +20,14 @@ from dataclasses import dataclass
 import numba
 import numpy as np
 
+_FMA = {"contract"}  # fused multiply-add allowed; no other IEEE relaxation
+
 from .errors import DesignError
 from .logic import PulseLogic
 from .logic_kernel import inhibit_table, logic_tables, logic_walk
 from .optics_kernel import compact_heading, pack_beams, pack_parts, walk_power
 from .saturation import stage_tables
-from .saturation_kernel import piecewise_pair2, piecewise_walk, piecewise_walk2
+from .saturation_kernel import piecewise_modal2, piecewise_pair_modal2, piecewise_walk
 
 
 @dataclass(frozen=True)
@@ -55,7 +57,7 @@ class WalkOutcomes:
     comparator_input: np.ndarray | None = None
 
 
-@numba.njit(cache=True, error_model="numpy")
+@numba.njit(cache=True, error_model="numpy", fastmath=_FMA)
 def analog_walk(sig, sensor_sos, jfet, pw):
     """Equivalent power (samples,) [W] → comparator input [V] in place, for one walk.
 
@@ -83,7 +85,7 @@ def analog_walk(sig, sensor_sos, jfet, pw):
     for t in range(n_t):  # v_s = d − 2d / (1 + √(1 + 4 k d)), d = max(v_g + |V_P|, 0)
         d = max(sig[t] + a, 0.0)
         sig[t] = d - 2.0 * d / (1.0 + math.sqrt(1.0 + k4 * d))
-    pin_n, pin_p, pin_q, pin_r, pin_c, pin_df, pin_rail, pin_flags, pin_x0 = pw
+    pin_n, pin_p, pin_q, pin_r, pin_c, pin_df, pin_rail, pin_flags, pin_x0, pin_modal = pw
     n_s = pin_n.shape[0]
     if pin_p.shape[2] > 2:  # a stage with more than 2 states: the general integration
         for s in range(n_s):
@@ -102,9 +104,11 @@ def analog_walk(sig, sensor_sos, jfet, pw):
             pin_p[s], pin_q[s], pin_r[s], pin_c[s], pin_df[s, 0], pin_df[s, 1],
             pin_rail[s, 0], pin_rail[s, 1], pin_flags[s, 0] > 0, pin_flags[s, 1] > 0,
         )  # fmt: skip
+        mod_a = _modal_tuple(pin_modal[s])
         if s + 1 == n_s:
             pa, qa, ra, ca, da, fa, ha, la, am, ne = ta
-            piecewise_walk2(sig, x0, pa, qa, ra, ca, da, fa, ha, la, am, ne, sig)
+            km, tv, dg = mod_a
+            piecewise_modal2(sig, x0, pa, qa, ra, ca, da, fa, ha, la, am, ne, sig, km, tv, dg)
             return
         b = s + 1
         tb = (
@@ -112,11 +116,19 @@ def analog_walk(sig, sensor_sos, jfet, pw):
             pin_rail[b, 0], pin_rail[b, 1], pin_flags[b, 0] > 0, pin_flags[b, 1] > 0,
         )  # fmt: skip
         xb = np.array([pin_x0[b, 0, 0], pin_x0[b, 1, 0], pin_x0[b, 0, 1], pin_x0[b, 1, 1]])
-        piecewise_pair2(sig, x0, xb, ta, tb)
+        piecewise_pair_modal2(sig, x0, xb, ta, tb, mod_a, _modal_tuple(pin_modal[b]))
         s += 2
 
 
-@numba.njit(cache=True, parallel=True, error_model="numpy")
+@numba.njit(inline="always")
+def _modal_tuple(a):
+    """(km, tv, diag) tuples of one row of :func:`_modal`."""
+    km = (a[0], a[1], a[2], a[3], a[4], a[5], a[6], a[7], a[8], a[9], a[10], a[11])
+    tv = (a[12], a[13], a[14], a[15], a[16], a[17], a[18], a[19])
+    return km, tv, a[20] > 0
+
+
+@numba.njit(cache=True, parallel=True, error_model="numpy", fastmath=_FMA)
 def _chain_kernel(
     pos, head, parts, h, beams, sensor_sos, jfet, pw, extra, rest, wave, lg, inhibit,
     out_i, out_f,
@@ -158,6 +170,35 @@ def _normalised_sos(sos: np.ndarray) -> np.ndarray:
     return np.ascontiguousarray(sos / sos[:, 3:4])
 
 
+def _modal(tab) -> np.ndarray:
+    """Linear-mode coefficients in modal coordinates z = V⁻¹ x of a ≤ 2-state stage:
+    [12 coefficients as saturation_kernel._coef2, V and V⁻¹ row by row, diagonal flag].
+    Real, distinct, well-conditioned eigenvalues give a diagonal recursion; otherwise
+    V = I and the recursion stays the full 2 × 2 one."""
+    p0, q0, r0 = tab.P[0], tab.Q[0], tab.R[0]
+    c = np.zeros(2)
+    c[: tab.C.size] = tab.C
+    if p0.shape != (2, 2):
+        return np.zeros(21)  # not used: a stage with more states takes the general path
+    lam, v = np.linalg.eig(p0)
+    diag = bool(
+        np.all(np.abs(np.imag(lam)) == 0)
+        and abs(lam[0] - lam[1]) > 1e-9 * max(abs(lam[0]), abs(lam[1]), 1e-300)
+        and np.linalg.cond(v) < 1e8
+    )
+    if diag:
+        lam, v = np.real(lam), np.real(v)
+        w = np.linalg.inv(v)
+        m = np.diag(lam)
+    else:
+        v = w = np.eye(2)
+        m = p0
+    g, hh, cv = w @ q0, w @ r0, c @ v
+    return np.concatenate(
+        [m.ravel(), g, hh, cv, [tab.D, tab.F], v.ravel(), w.ravel(), [float(diag)]]
+    )
+
+
 def _pack_stages(stages, sample_rate: float):
     tabs = [stage_tables(st, sample_rate) for st in stages]
     n_s = len(tabs)
@@ -174,9 +215,10 @@ def _pack_stages(stages, sample_rate: float):
         x0[i, 0, :m], x0[i, 1, :m] = t.x_rest, t.x_per_volt
     df = np.array([[t.D, t.F] for t in tabs]).reshape(n_s, 2)
     rail = np.array([[t.v_high, t.v_low] for t in tabs]).reshape(n_s, 2)
+    modal = np.array([_modal(t) for t in tabs]).reshape(n_s, 21)
     has_amp = [st.opamp is not None for st in stages]
     flags = np.array([[a, t.net] for a, t in zip(has_amp, tabs, strict=True)], dtype=np.int64)
-    return n, p, q, r, c, df, rail, flags.reshape(n_s, 2), x0
+    return n, p, q, r, c, df, rail, flags.reshape(n_s, 2), x0, modal
 
 
 def supports(target) -> bool:

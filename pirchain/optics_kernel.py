@@ -26,6 +26,8 @@ import math
 import numba
 import numpy as np
 
+_FMA = {"contract"}  # fused multiply-add allowed; no other IEEE relaxation
+
 _MIN_RANGE = 0.01
 _BLOCK = 64  # samples per block of the beam search
 _TWO_PI = 2.0 * math.pi
@@ -47,7 +49,7 @@ _Q0, _Q1, _Q2, _Q3, _Q4 = (
     1.945506571482613964425e2,
 )
 
-_JIT = {"cache": True, "error_model": "numpy"}
+_JIT = {"cache": True, "error_model": "numpy", "fastmath": _FMA}
 
 
 @numba.njit(inline="always", **_JIT)
@@ -276,7 +278,7 @@ def compact_heading(walks) -> np.ndarray:
     return np.ascontiguousarray(head, dtype=float)
 
 
-@numba.njit(cache=True, parallel=True, error_model="numpy")
+@numba.njit(cache=True, parallel=True, error_model="numpy", fastmath=_FMA)
 def _element_kernel(pos, head, parts, h, beams, n_out, out):
     n_w, n_t = pos.shape[0], pos.shape[1]
     n_p = parts.shape[1]

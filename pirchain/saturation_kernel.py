@@ -9,8 +9,10 @@ from __future__ import annotations
 import numba
 import numpy as np
 
+_FMA = {"contract"}  # fused multiply-add allowed; no other IEEE relaxation
 
-@numba.njit(cache=True)
+
+@numba.njit(cache=True, fastmath=_FMA)
 def _step(p_all, q_all, r_all, m, x, s, xn, c, y0):
     """One trapezoidal step in mode m into ``xn``; returns the linear output y0 + c·xn."""
     n = x.shape[0]
@@ -24,7 +26,7 @@ def _step(p_all, q_all, r_all, m, x, s, xn, c, y0):
     return y
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, fastmath=_FMA)
 def piecewise_walk(u, x0, p_all, q_all, r_all, c, d, f, v_hi, v_lo, has_amp, net, y, pinned):
     """Integrate one walk's input ``u`` (samples,) from states ``x0`` into ``y``, ``pinned``.
 
@@ -73,7 +75,7 @@ def piecewise_walk(u, x0, p_all, q_all, r_all, c, d, f, v_hi, v_lo, has_amp, net
         pinned[t + 1] = mode != 0
 
 
-@numba.njit(cache=True, parallel=True)
+@numba.njit(cache=True, parallel=True, fastmath=_FMA)
 def piecewise_kernel(u, x0, p_all, q_all, r_all, c, d, f, v_hi, v_lo, has_amp, net, y, pinned):
     """Integrate (walks, samples) inputs; ``p_all`` etc. hold modes linear, high, low."""
     for w in numba.prange(u.shape[0]):
@@ -82,7 +84,7 @@ def piecewise_kernel(u, x0, p_all, q_all, r_all, c, d, f, v_hi, v_lo, has_amp, n
         )
 
 
-@numba.njit(inline="always")
+@numba.njit(inline="always", fastmath=_FMA)
 def _coef2(p, q, r, c, d, f, m):
     """Mode ``m``'s coefficients of a ≤ 2-state stage as one tuple of scalars, so that the
     sample loop holds them in registers and touches no arrays."""
@@ -90,7 +92,7 @@ def _coef2(p, q, r, c, d, f, m):
             r[m, 1], c[0], c[1], d, f)  # fmt: skip
 
 
-@numba.njit(inline="always")
+@numba.njit(inline="always", fastmath=_FMA)
 def _step2(k, x_0, x_1, ss, y0):
     """One trapezoidal step with coefficients ``k``: (x0', x1', y_lin)."""
     n0 = k[0] * x_0 + k[1] * x_1 + k[4] * ss + k[6]
@@ -98,7 +100,7 @@ def _step2(k, x_0, x_1, ss, y0):
     return n0, n1, y0 + k[8] * n0 + k[9] * n1
 
 
-@numba.njit(inline="always")
+@numba.njit(inline="always", fastmath=_FMA)
 def _start2(k, x_0, x_1, u0, v_hi, v_lo, has_amp):
     """Output and mode at the first sample: (y, mode)."""
     yl = k[10] * u0 + k[11] + k[8] * x_0 + k[9] * x_1
@@ -108,7 +110,7 @@ def _start2(k, x_0, x_1, u0, v_hi, v_lo, has_amp):
     return (v_hi if m == 1 else (v_lo if m == 2 else yl)), m
 
 
-@numba.njit(inline="always")
+@numba.njit(inline="always", fastmath=_FMA)
 def _sample2(k0, k1, k2, v_hi, v_lo, has_amp, net, x_0, x_1, m, u_prev, u_next):
     """One sample of :func:`piecewise_walk`'s rules for a ≤ 2-state stage whose modes have
     coefficients k0 (linear), k1 (high rail), k2 (low rail). Returns (x0', x1', mode', y)."""
@@ -136,7 +138,164 @@ def _sample2(k0, k1, k2, v_hi, v_lo, has_amp, net, x_0, x_1, m, u_prev, u_next):
     return n0, n1, m, (v_hi if m == 1 else (v_lo if m == 2 else yl))
 
 
-@numba.njit(cache=True)
+@numba.njit(inline="always", fastmath=_FMA)
+def _sample2m(km, tv, diag, k1, k2, v_hi, v_lo, has_amp, net, a0, a1, m, u_prev, u_next):
+    """:func:`_sample2` with the linear mode in modal coordinates z = V⁻¹ x.
+
+    In linear mode (and always for a stage without a network) the state (a0, a1) is z,
+    whose recursion is diagonal when ``diag`` (each state one multiply-add deep, so the
+    loop runs at the CPU's throughput, not its latency); on a rail it is x. ``km`` = the
+    linear mode's coefficients in z (12-tuple as :func:`_coef2`), ``tv`` = (V, V⁻¹) row
+    by row. Returns (a0', a1', mode', y).
+    """
+    ss = u_prev + u_next
+    y0 = km[10] * u_next + km[11]
+    modal = m == 0 or not net
+    if modal:
+        if diag:
+            n0 = km[0] * a0 + (km[4] * ss + km[6])
+            n1 = km[3] * a1 + (km[5] * ss + km[7])
+            yl = y0 + km[8] * n0 + km[9] * n1
+        else:
+            n0, n1, yl = _step2(km, a0, a1, ss, y0)
+        if net and (yl > v_hi or yl < v_lo):  # runs into a rail during this step
+            m = 1 if yl > v_hi else 2
+            x0, x1 = tv[0] * a0 + tv[1] * a1, tv[2] * a0 + tv[3] * a1
+            n0, n1, yl = _step2(k1 if m == 1 else k2, x0, x1, ss, y0)
+            modal = False
+    else:
+        n0, n1, yl = _step2(k1 if m == 1 else k2, a0, a1, ss, y0)
+    if has_amp:
+        if net:
+            if m == 1 and yl <= v_hi:
+                m = 0
+            elif m == 2 and yl >= v_lo:
+                m = 0
+            if m == 0 and yl > v_hi:
+                m = 1
+            elif m == 0 and yl < v_lo:
+                m = 2
+        else:
+            m = 1 if yl > v_hi else (2 if yl < v_lo else 0)
+    want = m == 0 or not net
+    if want and not modal:
+        n0, n1 = tv[4] * n0 + tv[5] * n1, tv[6] * n0 + tv[7] * n1
+    elif modal and not want:
+        n0, n1 = tv[0] * n0 + tv[1] * n1, tv[2] * n0 + tv[3] * n1
+    return n0, n1, m, (v_hi if m == 1 else (v_lo if m == 2 else yl))
+
+
+@numba.njit(inline="always", fastmath=_FMA)
+def _begin2(km, tv, k0, x_0, x_1, u0, v_hi, v_lo, has_amp, net):
+    """First sample of a stage from its initial state x: (a0, a1, mode, y)."""
+    y, m = _start2(k0, x_0, x_1, u0, v_hi, v_lo, has_amp)
+    if m == 0 or not net:
+        x_0, x_1 = tv[4] * x_0 + tv[5] * x_1, tv[6] * x_0 + tv[7] * x_1
+    return x_0, x_1, m, y
+
+
+@numba.njit(inline="always", fastmath=_FMA)
+def _linear_modal(km, diag, a0, a1, u_prev, u_next):
+    """A linear-mode step in modal coordinates: (z0', z1', y_lin)."""
+    ss = u_prev + u_next
+    y0 = km[10] * u_next + km[11]
+    if diag:
+        n0 = km[0] * a0 + (km[4] * ss + km[6])
+        n1 = km[3] * a1 + (km[5] * ss + km[7])
+        return n0, n1, y0 + km[8] * n0 + km[9] * n1
+    return _step2(km, a0, a1, ss, y0)
+
+
+@numba.njit(cache=True, fastmath=_FMA)
+def piecewise_modal2(u, x0, p, q, r, c, d, f, v_hi, v_lo, has_amp, net, y, km, tv, diag):
+    """:func:`piecewise_walk2` with the linear mode in modal coordinates (see
+    :func:`_sample2m`): while the op-amp stays linear a tight loop runs the diagonal
+    recursion; a sample that reaches a rail, and every pinned sample, takes the full rules.
+    ``y`` may be ``u``."""
+    k0, k1, k2 = (
+        _coef2(p, q, r, c, d, f, 0),
+        _coef2(p, q, r, c, d, f, 1),
+        _coef2(p, q, r, c, d, f, 2),
+    )
+    n_t = u.shape[0]
+    u_prev = u[0]
+    a0, a1, m, y[0] = _begin2(km, tv, k0, x0[0], x0[1], u_prev, v_hi, v_lo, has_amp, net)
+    t = 1
+    while t < n_t:
+        if m == 0 or not net:  # linear: run until a rail is reached
+            while t < n_t:
+                u_next = u[t]
+                n0, n1, yl = _linear_modal(km, diag, a0, a1, u_prev, u_next)
+                if net and (yl > v_hi or yl < v_lo):
+                    break
+                a0, a1, u_prev = n0, n1, u_next
+                y[t] = min(max(yl, v_lo), v_hi)  # a stage without a network clamps
+                t += 1
+            if t == n_t:
+                break
+        u_next = u[t]
+        a0, a1, m, y[t] = _sample2m(
+            km, tv, diag, k1, k2, v_hi, v_lo, has_amp, net, a0, a1, m, u_prev, u_next
+        )
+        u_prev = u_next
+        t += 1
+
+
+@numba.njit(cache=True, fastmath=_FMA)
+def piecewise_pair_modal2(sig, xa, xb, ta, tb, ma_, mb_):
+    """:func:`piecewise_pair2` with each stage's linear mode in modal coordinates: while
+    both op-amps stay linear a tight loop runs both diagonal recursions; otherwise a sample
+    takes the full rules of :func:`_sample2m`. ``ma_``/``mb_`` = (km, tv, diag)."""
+    pa, qa, ra, ca, da, fa, ha, la, amp_a, net_a = ta
+    pb, qb, rb, cb, db, fb, hb, lb, amp_b, net_b = tb
+    kma, tva, dga = ma_
+    kmb, tvb, dgb = mb_
+    a0k, a1k, a2k = (
+        _coef2(pa, qa, ra, ca, da, fa, 0),
+        _coef2(pa, qa, ra, ca, da, fa, 1),
+        _coef2(pa, qa, ra, ca, da, fa, 2),
+    )
+    b0k, b1k, b2k = (
+        _coef2(pb, qb, rb, cb, db, fb, 0),
+        _coef2(pb, qb, rb, cb, db, fb, 1),
+        _coef2(pb, qb, rb, cb, db, fb, 2),
+    )
+    n_t = sig.shape[0]
+    ua = sig[0]
+    a0, a1, ma, ub = _begin2(kma, tva, a0k, xa[0], xa[1], ua, ha, la, amp_a, net_a)
+    xb0, xb1 = xb[0] + xb[1] * ub, xb[2] + xb[3] * ub
+    b0, b1, mb, sig[0] = _begin2(kmb, tvb, b0k, xb0, xb1, ub, hb, lb, amp_b, net_b)
+    t = 1
+    while t < n_t:
+        if (ma == 0 or not net_a) and (mb == 0 or not net_b):  # both linear
+            while t < n_t:
+                u_next = sig[t]
+                n0, n1, ya = _linear_modal(kma, dga, a0, a1, ua, u_next)
+                if net_a and (ya > ha or ya < la):
+                    break
+                ya = min(max(ya, la), ha)
+                m0, m1, yb = _linear_modal(kmb, dgb, b0, b1, ub, ya)
+                if net_b and (yb > hb or yb < lb):
+                    break
+                a0, a1, ua, b0, b1, ub = n0, n1, u_next, m0, m1, ya
+                sig[t] = min(max(yb, lb), hb)
+                t += 1
+            if t == n_t:
+                break
+        u_next = sig[t]
+        a0, a1, ma, ya = _sample2m(
+            kma, tva, dga, a1k, a2k, ha, la, amp_a, net_a, a0, a1, ma, ua, u_next
+        )
+        ua = u_next
+        b0, b1, mb, yb = _sample2m(
+            kmb, tvb, dgb, b1k, b2k, hb, lb, amp_b, net_b, b0, b1, mb, ub, ya
+        )
+        ub = ya
+        sig[t] = yb
+        t += 1
+
+
+@numba.njit(cache=True, fastmath=_FMA)
 def piecewise_walk2(u, x0, p, q, r, c, d, f, v_hi, v_lo, has_amp, net, y):
     """:func:`piecewise_walk` for a stage of at most 2 states (tables padded to 2), with the
     coefficients and the states in registers; ``y`` may be ``u``."""
@@ -157,7 +316,7 @@ def piecewise_walk2(u, x0, p, q, r, c, d, f, v_hi, v_lo, has_amp, net, y):
         u_prev = u_next
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, fastmath=_FMA)
 def piecewise_pair2(sig, xa, xb, ta, tb):
     """Two ≤ 2-state stages in series over one walk in a single pass, in place (their
     recursions overlap in the CPU). ``ta``/``tb`` = (p, q, r, c, d, f, v_hi, v_lo, has_amp,
