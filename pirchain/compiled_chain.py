@@ -19,6 +19,7 @@ from dataclasses import dataclass
 
 import numba
 import numpy as np
+from scipy import signal
 
 _FMA = {"contract"}  # fused multiply-add allowed; no other IEEE relaxation
 
@@ -58,10 +59,11 @@ class WalkOutcomes:
 
 
 @numba.njit(cache=True, error_model="numpy", fastmath=_FMA)
-def analog_walk(sig, sensor_sos, jfet, pw):
+def analog_walk(sig, sensor_sos, sensor_par, jfet, pw):
     """Equivalent power (samples,) [W] → comparator input [V] in place, for one walk.
 
-    One pass runs the sensor's sections (from rest: the first sample's power has been there
+    One pass runs the sensor's sections (in parallel form when they are one section with
+    two distinct real poles: z = Σ r_i/(1 − p_i z⁻¹) + k, equal to rounding; from rest: the first sample's power has been there
     for ever) and the JFET square law; then every stage runs the exact linear / rail-pinned
     integration from its steady state with its first input (as
     :func:`pirchain.saturation.run_stage`; in linear mode it equals the sections to
@@ -71,16 +73,31 @@ def analog_walk(sig, sensor_sos, jfet, pw):
     p0 = sig[0]
     for t in range(n_t):
         sig[t] -= p0
-    for k in range(sensor_sos.shape[0]):  # one section at a time, its state in registers
-        b0, b1, b2 = sensor_sos[k, 0], sensor_sos[k, 1], sensor_sos[k, 2]
-        a1, a2 = sensor_sos[k, 4], sensor_sos[k, 5]
-        z0 = z1 = 0.0
-        for t in range(n_t):  # direct form II transposed, as scipy.signal.sosfilt
+    if sensor_par[5] > 0:  # one section with two distinct real poles: parallel form
+        p1, p2, r1, r2, k0 = (
+            sensor_par[0],
+            sensor_par[1],
+            sensor_par[2],
+            sensor_par[3],
+            sensor_par[4],
+        )
+        w1 = w2 = 0.0
+        for t in range(n_t):  # two first-order recursions, each one multiply-add deep
             x = sig[t]
-            y = b0 * x + z0
-            z0 = b1 * x - a1 * y + z1
-            z1 = b2 * x - a2 * y
-            sig[t] = y
+            w1 = p1 * w1 + x
+            w2 = p2 * w2 + x
+            sig[t] = k0 * x + r1 * w1 + r2 * w2
+    else:
+        for k in range(sensor_sos.shape[0]):  # one section at a time, state in registers
+            b0, b1, b2 = sensor_sos[k, 0], sensor_sos[k, 1], sensor_sos[k, 2]
+            a1, a2 = sensor_sos[k, 4], sensor_sos[k, 5]
+            z0 = z1 = 0.0
+            for t in range(n_t):  # direct form II transposed, as scipy.signal.sosfilt
+                x = sig[t]
+                y = b0 * x + z0
+                z0 = b1 * x - a1 * y + z1
+                z1 = b2 * x - a2 * y
+                sig[t] = y
     a, k4 = jfet[0], jfet[1]
     for t in range(n_t):  # v_s = d − 2d / (1 + √(1 + 4 k d)), d = max(v_g + |V_P|, 0)
         d = max(sig[t] + a, 0.0)
@@ -130,7 +147,7 @@ def _modal_tuple(a):
 
 @numba.njit(cache=True, parallel=True, error_model="numpy", fastmath=_FMA)
 def _chain_kernel(
-    pos, head, parts, h, beams, sensor_sos, jfet, pw, extra, rest, wave, lg, inhibit,
+    pos, head, parts, h, beams, sensor_sos, sensor_par, jfet, pw, extra, rest, wave, lg, inhibit,
     out_i, out_f,
 ):  # fmt: skip
     n_w, n_t = pos.shape[0], pos.shape[1]
@@ -147,7 +164,7 @@ def _chain_kernel(
         s1 = np.empty((n_p, n_t))
         walk_power(pos[w], head[w], parts, h, beams, acc, az, ah, s0, s1)
         sig = acc[0]
-        analog_walk(sig, sensor_sos, jfet, pw)
+        analog_walk(sig, sensor_sos, sensor_par, jfet, pw)
         if has_extra:
             for t in range(n_t):
                 sig[t] += extra[w, t]
@@ -168,6 +185,24 @@ def _chain_kernel(
 def _normalised_sos(sos: np.ndarray) -> np.ndarray:
     sos = np.array(sos, dtype=float)
     return np.ascontiguousarray(sos / sos[:, 3:4])
+
+
+def _parallel_form(sos: np.ndarray) -> np.ndarray:
+    """[p1, p2, r1, r2, k, usable] of a single section (scipy.signal.residuez), usable when
+    its poles are real and distinct and the residues moderate."""
+    if sos.shape[0] != 1:
+        return np.zeros(6)
+    r, p, k = signal.residuez(sos[0, :3], sos[0, 3:])
+    ok = (
+        p.size == 2
+        and k.size == 1
+        and np.all(np.imag(p) == 0)
+        and abs(p[0] - p[1]) > 1e-6
+        and np.max(np.abs(r)) < 1e6 * max(np.max(np.abs(sos[0, :3])), 1e-300)
+    )
+    if not ok:
+        return np.zeros(6)
+    return np.array([*np.real(p), *np.real(r), float(np.real(k[0])), 1.0])
 
 
 def _modal(tab) -> np.ndarray:
@@ -235,9 +270,11 @@ def _detector_tables(detector, sample_rate: float):
     weight = beams.weight * coupling[beams.element] * sensor.window_transmittance
     jf = detector.follower.jfet
     k4 = 4.0 * detector.follower.source_resistance * jf.idss / jf.pinch_off**2
+    sos = _normalised_sos(sensor.sos(sample_rate))
     return (
         pack_beams(beams, weight, np.zeros(beams.azimuth.size)),
-        _normalised_sos(sensor.sos(sample_rate)),
+        sos,
+        _parallel_form(sos),
         np.array([jf.pinch_off, k4]),
         _pack_stages(detector.stages, sample_rate),
         float(detector.rest_levels()[-1]),
@@ -260,7 +297,7 @@ def run_compiled(
     """Run a batch through :func:`_chain_kernel` (see :meth:`Detector.outcomes`)."""
     fs = walks.sample_rate
     n_w, n_t = walks.n_walks, walks.n_samples
-    beams, sensor_sos, jfet, stages, rest = _detector_tables(detector, fs)
+    beams, sensor_sos, sensor_par, jfet, stages, rest = _detector_tables(detector, fs)
     logic = detector.logic or PulseLogic()
     lt = _logic_tables(detector.comparator, logic, n_t, fs)
     inhibit = inhibit_table(logic, lux, n_w, lt.ticks.size)
@@ -281,6 +318,7 @@ def run_compiled(
         float(detector.mount.height),
         beams,
         sensor_sos,
+        sensor_par,
         jfet,
         stages,
         extra,

@@ -169,21 +169,6 @@ def walk_power(pos, head, parts, h, beams, out, az, ah, s0, s1):
         inv_rho[t] = 1.0 / rho[t]
     for t in range(n_t):
         az[t] = fast_atan2(py[t], px[t])
-    for p in range(n_p):
-        a2, b2 = (0.5 * parts[0, p]) ** 2, (0.5 * parts[1, p]) ** 2
-        d0, d1 = parts[2, p] - h, parts[3, p] - h
-        ah_p, s0_p, s1_p = ah[p], s0[p], s1[p]
-        shared = p > 0 and parts[2, p] == parts[3, p - 1]  # stacked parts share an edge
-        for t in range(n_t):
-            c2 = cos2[t]
-            hw = math.sqrt(a2 * c2 + b2 * (1.0 - c2))
-            ah_p[t] = fast_atan(hw * inv_rho[t])
-            r2 = rho[t] * rho[t]
-            s1_p[t] = d1 / math.sqrt(r2 + d1 * d1)
-            if not shared:
-                s0_p[t] = d0 / math.sqrt(r2 + d0 * d0)
-        if shared:
-            s0_p[:] = s1[p - 1]
     # bounds of the target over a block, from the range extremes: the half width is largest
     # at the shortest range, and sin(elevation) of a fixed height is monotonic in range
     hw_max = 0.0
@@ -216,6 +201,23 @@ def walk_power(pos, head, parts, h, beams, out, az, ah, s0, s1):
             ):
                 cand[n_c] = b
                 n_c += 1
+        if n_c == 0:  # no beam can see the target in this block: no part geometry needed
+            continue
+        for p in range(n_p):  # part geometry of this block: straight loops
+            a2, b2 = (0.5 * parts[0, p]) ** 2, (0.5 * parts[1, p]) ** 2
+            d0, d1 = parts[2, p] - h, parts[3, p] - h
+            ahv, s0v, s1v = ah[p, t0:t1], s0[p, t0:t1], s1[p, t0:t1]
+            c2v, rv, iv = cos2[t0:t1], rho[t0:t1], inv_rho[t0:t1]
+            for t in range(m):
+                c2 = c2v[t]
+                hw = math.sqrt(a2 * c2 + b2 * (1.0 - c2))
+                ahv[t] = fast_atan(hw * iv[t])
+                s1v[t] = d1 / math.sqrt(rv[t] * rv[t] + d1 * d1)
+            if p > 0 and parts[2, p] == parts[3, p - 1]:  # stacked parts share an edge
+                s0v[:] = s1[p - 1, t0:t1]
+            else:
+                for t in range(m):
+                    s0v[t] = d0 / math.sqrt(rv[t] * rv[t] + d0 * d0)
         for i in range(n_c):
             b = cand[i]
             b_az, bh, b_lo, b_hi = beams[0, b], beams[1, b], beams[2, b], beams[3, b]
