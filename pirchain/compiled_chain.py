@@ -21,9 +21,8 @@ import numba
 import numpy as np
 from scipy import signal
 
-_FMA = {"contract"}  # fused multiply-add allowed; no other IEEE relaxation
-
 from .errors import DesignError
+from .jit_options import FMA
 from .logic import PulseLogic
 from .logic_kernel import inhibit_table, logic_tables, logic_walk
 from .optics_kernel import compact_heading, pack_beams, pack_parts, walk_power
@@ -58,14 +57,15 @@ class WalkOutcomes:
     comparator_input: np.ndarray | None = None
 
 
-@numba.njit(cache=True, error_model="numpy", fastmath=_FMA)
+@numba.njit(cache=True, error_model="numpy", fastmath=FMA)
 def analog_walk(sig, sensor_sos, sensor_par, jfet, pw):
     """Equivalent power (samples,) [W] → comparator input [V] in place, for one walk.
 
-    One pass runs the sensor's sections (in parallel form when they are one section with
-    two distinct real poles: z = Σ r_i/(1 − p_i z⁻¹) + k, equal to rounding; from rest: the first sample's power has been there
-    for ever) and the JFET square law; then every stage runs the exact linear / rail-pinned
-    integration from its steady state with its first input (as
+    One pass runs the sensor's sections (in parallel form H = Σ r_i/(1 − p_i z⁻¹) + k when
+    they are one section with two distinct real poles, equal to rounding; from rest: the
+    first sample's power has been there for ever) and the JFET square law; then every
+    stage runs the exact linear / rail-pinned integration from its steady state with its
+    first input (as
     :func:`pirchain.saturation.run_stage`; in linear mode it equals the sections to
     rounding). ``pw`` = the tables of :func:`_pack_stages`.
     """
@@ -145,7 +145,7 @@ def _modal_tuple(a):
     return km, tv, a[20] > 0
 
 
-@numba.njit(cache=True, parallel=True, error_model="numpy", fastmath=_FMA)
+@numba.njit(cache=True, parallel=True, error_model="numpy", fastmath=FMA)
 def _chain_kernel(
     pos, head, parts, h, beams, sensor_sos, sensor_par, jfet, pw, extra, rest, wave, lg, inhibit,
     out_i, out_f,
@@ -205,16 +205,11 @@ def _parallel_form(sos: np.ndarray) -> np.ndarray:
     return np.array([*np.real(p), *np.real(r), float(np.real(k[0])), 1.0])
 
 
-def _modal(tab) -> np.ndarray:
-    """Linear-mode coefficients in modal coordinates z = V⁻¹ x of a ≤ 2-state stage:
-    [12 coefficients as saturation_kernel._coef2, V and V⁻¹ row by row, diagonal flag].
-    Real, distinct, well-conditioned eigenvalues give a diagonal recursion; otherwise
-    V = I and the recursion stays the full 2 × 2 one."""
-    p0, q0, r0 = tab.P[0], tab.Q[0], tab.R[0]
-    c = np.zeros(2)
-    c[: tab.C.size] = tab.C
-    if p0.shape != (2, 2):
-        return np.zeros(21)  # not used: a stage with more states takes the general path
+def _modal(p0, q0, r0, c, d, f) -> np.ndarray:
+    """Linear-mode coefficients in modal coordinates z = V⁻¹ x of a stage padded to 2
+    states: [12 coefficients as saturation_kernel._coef2, V and V⁻¹ row by row, diagonal
+    flag]. Real, distinct, well-conditioned eigenvalues give a diagonal recursion;
+    otherwise V = I and the recursion stays the full 2 × 2 one."""
     lam, v = np.linalg.eig(p0)
     diag = bool(
         np.all(np.abs(np.imag(lam)) == 0)
@@ -228,9 +223,8 @@ def _modal(tab) -> np.ndarray:
     else:
         v = w = np.eye(2)
         m = p0
-    g, hh, cv = w @ q0, w @ r0, c @ v
     return np.concatenate(
-        [m.ravel(), g, hh, cv, [tab.D, tab.F], v.ravel(), w.ravel(), [float(diag)]]
+        [m.ravel(), w @ q0, w @ r0, c @ v, [d, f], v.ravel(), w.ravel(), [float(diag)]]
     )
 
 
@@ -250,7 +244,10 @@ def _pack_stages(stages, sample_rate: float):
         x0[i, 0, :m], x0[i, 1, :m] = t.x_rest, t.x_per_volt
     df = np.array([[t.D, t.F] for t in tabs]).reshape(n_s, 2)
     rail = np.array([[t.v_high, t.v_low] for t in tabs]).reshape(n_s, 2)
-    modal = np.array([_modal(t) for t in tabs]).reshape(n_s, 21)
+    modal = np.zeros((n_s, 21))
+    if n_max == 2:
+        for i, t in enumerate(tabs):
+            modal[i] = _modal(p[i, 0], q[i, 0], r[i, 0], c[i], t.D, t.F)
     has_amp = [st.opamp is not None for st in stages]
     flags = np.array([[a, t.net] for a, t in zip(has_amp, tabs, strict=True)], dtype=np.int64)
     return n, p, q, r, c, df, rail, flags.reshape(n_s, 2), x0, modal

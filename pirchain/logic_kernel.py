@@ -17,8 +17,7 @@ from dataclasses import dataclass
 import numba
 import numpy as np
 
-_FMA = {"contract"}  # fused multiply-add allowed; no other IEEE relaxation
-
+from .jit_options import FMA
 from .logic import PulseLogic
 
 _MAX_COUNT = 16  # PulseLogic allows 1–16 pulses
@@ -84,7 +83,7 @@ def logic_tables(comparator, logic: PulseLogic, n_samples: int, sample_rate: flo
     return LogicTables(index, frac, interpolate, ticks, comp, rules)
 
 
-@numba.njit(cache=True, error_model="numpy", fastmath=_FMA)
+@numba.njit(cache=True, error_model="numpy", fastmath=FMA)
 def logic_walk(v, index, frac, interpolate, ticks, comp, rules, inhibit, has_inhibit):
     """Comparator and rules over one walk's comparator input ``v`` (samples,) [V].
 
@@ -177,7 +176,7 @@ def logic_walk(v, index, frac, interpolate, ticks, comp, rules, inhibit, has_inh
     return n_pulses, n_trig, n_on, first_on
 
 
-@numba.njit(cache=True, parallel=True, error_model="numpy", fastmath=_FMA)
+@numba.njit(cache=True, parallel=True, error_model="numpy", fastmath=FMA)
 def _logic_batch(v, index, frac, interpolate, ticks, comp, rules, inhibit, out_i, out_f):
     has_inhibit = inhibit.shape[1] > 0
     for w in numba.prange(v.shape[0]):

@@ -26,7 +26,7 @@ import math
 import numba
 import numpy as np
 
-_FMA = {"contract"}  # fused multiply-add allowed; no other IEEE relaxation
+from .jit_options import FMA, JIT
 
 _MIN_RANGE = 0.01
 _BLOCK = 64  # samples per block of the beam search
@@ -49,10 +49,8 @@ _Q0, _Q1, _Q2, _Q3, _Q4 = (
     1.945506571482613964425e2,
 )
 
-_JIT = {"cache": True, "error_model": "numpy", "fastmath": _FMA}
 
-
-@numba.njit(inline="always", **_JIT)
+@numba.njit(inline="always", **JIT)
 def fast_atan(v):
     """arctan(v) [rad], branch-free Cephes rational approximation (vectorises)."""
     x = abs(v)
@@ -69,7 +67,7 @@ def fast_atan(v):
     return r if v >= 0 else -r
 
 
-@numba.njit(inline="always", **_JIT)
+@numba.njit(inline="always", **JIT)
 def fast_atan2(y, x):
     """atan2(y, x) [rad] from :func:`fast_atan`, quadrants as the C library (atan2(0, 0) = 0)."""
     ax, ay = abs(x), abs(y)
@@ -81,13 +79,13 @@ def fast_atan2(y, x):
     return math.copysign(a, y)
 
 
-@numba.njit(**_JIT)
+@numba.njit(**JIT)
 def _atan_array(v, out):
     for i in range(v.size):
         out[i] = fast_atan(v[i])
 
 
-@numba.njit(**_JIT)
+@numba.njit(**JIT)
 def _atan2_array(y, x, out):
     for i in range(y.size):
         out[i] = fast_atan2(y[i], x[i])
@@ -110,13 +108,13 @@ def atan2(y: np.ndarray, x: np.ndarray) -> np.ndarray:
     return out
 
 
-@numba.njit(inline="always", **_JIT)
+@numba.njit(inline="always", **JIT)
 def _wrap(d):
     d = d - _TWO_PI if d > math.pi else d
     return d + _TWO_PI if d < -math.pi else d
 
 
-@numba.njit(**_JIT)
+@numba.njit(**JIT)
 def walk_power(pos, head, parts, h, beams, out, az, ah, s0, s1):
     """Power [W] of every beam output of one walk, accumulated into ``out`` (outputs, samples).
 
@@ -280,7 +278,7 @@ def compact_heading(walks) -> np.ndarray:
     return np.ascontiguousarray(head, dtype=float)
 
 
-@numba.njit(cache=True, parallel=True, error_model="numpy", fastmath=_FMA)
+@numba.njit(cache=True, parallel=True, error_model="numpy", fastmath=FMA)
 def _element_kernel(pos, head, parts, h, beams, n_out, out):
     n_w, n_t = pos.shape[0], pos.shape[1]
     n_p = parts.shape[1]

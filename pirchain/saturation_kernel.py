@@ -1,7 +1,12 @@
-"""Compiled form of :func:`pirchain.saturation.piecewise` (same equations, same mode rules).
+"""Compiled forms of :func:`pirchain.saturation.piecewise` (same equations, same mode rules).
 
-Each walk is integrated sample by sample in machine code; the walks are split over the CPU
-cores. Used for the walks that reach a rail; the array version stays as the reference.
+:func:`piecewise_walk` integrates one walk of any stage sample by sample in machine code
+(:func:`piecewise_kernel` splits a batch over the CPU cores); ``run_stage`` uses it for the
+walks that reach a rail, and the array version stays as the reference. For the compiled
+whole-chain pass, :func:`piecewise_modal2` and :func:`piecewise_pair_modal2` run stages of
+at most two states with the linear mode diagonalised (modal coordinates z = V⁻¹ x, each state
+one multiply-add deep) in a tight loop, and switch to the rail rules in x at the sample a
+rail is reached; they equal :func:`piecewise_walk` to rounding (tested through the chain).
 """
 
 from __future__ import annotations
@@ -9,10 +14,10 @@ from __future__ import annotations
 import numba
 import numpy as np
 
-_FMA = {"contract"}  # fused multiply-add allowed; no other IEEE relaxation
+from .jit_options import FMA
 
 
-@numba.njit(cache=True, fastmath=_FMA)
+@numba.njit(cache=True, fastmath=FMA)
 def _step(p_all, q_all, r_all, m, x, s, xn, c, y0):
     """One trapezoidal step in mode m into ``xn``; returns the linear output y0 + c·xn."""
     n = x.shape[0]
@@ -26,7 +31,7 @@ def _step(p_all, q_all, r_all, m, x, s, xn, c, y0):
     return y
 
 
-@numba.njit(cache=True, fastmath=_FMA)
+@numba.njit(cache=True, fastmath=FMA)
 def piecewise_walk(u, x0, p_all, q_all, r_all, c, d, f, v_hi, v_lo, has_amp, net, y, pinned):
     """Integrate one walk's input ``u`` (samples,) from states ``x0`` into ``y``, ``pinned``.
 
@@ -75,7 +80,7 @@ def piecewise_walk(u, x0, p_all, q_all, r_all, c, d, f, v_hi, v_lo, has_amp, net
         pinned[t + 1] = mode != 0
 
 
-@numba.njit(cache=True, parallel=True, fastmath=_FMA)
+@numba.njit(cache=True, parallel=True, fastmath=FMA)
 def piecewise_kernel(u, x0, p_all, q_all, r_all, c, d, f, v_hi, v_lo, has_amp, net, y, pinned):
     """Integrate (walks, samples) inputs; ``p_all`` etc. hold modes linear, high, low."""
     for w in numba.prange(u.shape[0]):
@@ -84,7 +89,7 @@ def piecewise_kernel(u, x0, p_all, q_all, r_all, c, d, f, v_hi, v_lo, has_amp, n
         )
 
 
-@numba.njit(inline="always", fastmath=_FMA)
+@numba.njit(inline="always", fastmath=FMA)
 def _coef2(p, q, r, c, d, f, m):
     """Mode ``m``'s coefficients of a ≤ 2-state stage as one tuple of scalars, so that the
     sample loop holds them in registers and touches no arrays."""
@@ -92,7 +97,7 @@ def _coef2(p, q, r, c, d, f, m):
             r[m, 1], c[0], c[1], d, f)  # fmt: skip
 
 
-@numba.njit(inline="always", fastmath=_FMA)
+@numba.njit(inline="always", fastmath=FMA)
 def _step2(k, x_0, x_1, ss, y0):
     """One trapezoidal step with coefficients ``k``: (x0', x1', y_lin)."""
     n0 = k[0] * x_0 + k[1] * x_1 + k[4] * ss + k[6]
@@ -100,7 +105,7 @@ def _step2(k, x_0, x_1, ss, y0):
     return n0, n1, y0 + k[8] * n0 + k[9] * n1
 
 
-@numba.njit(inline="always", fastmath=_FMA)
+@numba.njit(inline="always", fastmath=FMA)
 def _start2(k, x_0, x_1, u0, v_hi, v_lo, has_amp):
     """Output and mode at the first sample: (y, mode)."""
     yl = k[10] * u0 + k[11] + k[8] * x_0 + k[9] * x_1
@@ -110,37 +115,10 @@ def _start2(k, x_0, x_1, u0, v_hi, v_lo, has_amp):
     return (v_hi if m == 1 else (v_lo if m == 2 else yl)), m
 
 
-@numba.njit(inline="always", fastmath=_FMA)
-def _sample2(k0, k1, k2, v_hi, v_lo, has_amp, net, x_0, x_1, m, u_prev, u_next):
-    """One sample of :func:`piecewise_walk`'s rules for a ≤ 2-state stage whose modes have
-    coefficients k0 (linear), k1 (high rail), k2 (low rail). Returns (x0', x1', mode', y)."""
-    ss = u_prev + u_next
-    y0 = k0[10] * u_next + k0[11]
-    if m == 0 or not net:
-        n0, n1, yl = _step2(k0, x_0, x_1, ss, y0)
-    else:
-        n0, n1, yl = _step2(k1 if m == 1 else k2, x_0, x_1, ss, y0)
-    if net and m == 0 and (yl > v_hi or yl < v_lo):
-        m = 1 if yl > v_hi else 2
-        n0, n1, yl = _step2(k1 if m == 1 else k2, x_0, x_1, ss, y0)
-    if has_amp:
-        if net:
-            if m == 1 and yl <= v_hi:
-                m = 0
-            elif m == 2 and yl >= v_lo:
-                m = 0
-            if m == 0 and yl > v_hi:
-                m = 1
-            elif m == 0 and yl < v_lo:
-                m = 2
-        else:
-            m = 1 if yl > v_hi else (2 if yl < v_lo else 0)
-    return n0, n1, m, (v_hi if m == 1 else (v_lo if m == 2 else yl))
-
-
-@numba.njit(inline="always", fastmath=_FMA)
+@numba.njit(inline="always", fastmath=FMA)
 def _sample2m(km, tv, diag, k1, k2, v_hi, v_lo, has_amp, net, a0, a1, m, u_prev, u_next):
-    """:func:`_sample2` with the linear mode in modal coordinates z = V⁻¹ x.
+    """One sample of :func:`piecewise_walk`'s rules for a ≤ 2-state stage, with the linear
+    mode in modal coordinates z = V⁻¹ x.
 
     In linear mode (and always for a stage without a network) the state (a0, a1) is z,
     whose recursion is diagonal when ``diag`` (each state one multiply-add deep, so the
@@ -185,7 +163,7 @@ def _sample2m(km, tv, diag, k1, k2, v_hi, v_lo, has_amp, net, a0, a1, m, u_prev,
     return n0, n1, m, (v_hi if m == 1 else (v_lo if m == 2 else yl))
 
 
-@numba.njit(inline="always", fastmath=_FMA)
+@numba.njit(inline="always", fastmath=FMA)
 def _begin2(km, tv, k0, x_0, x_1, u0, v_hi, v_lo, has_amp, net):
     """First sample of a stage from its initial state x: (a0, a1, mode, y)."""
     y, m = _start2(k0, x_0, x_1, u0, v_hi, v_lo, has_amp)
@@ -194,7 +172,7 @@ def _begin2(km, tv, k0, x_0, x_1, u0, v_hi, v_lo, has_amp, net):
     return x_0, x_1, m, y
 
 
-@numba.njit(inline="always", fastmath=_FMA)
+@numba.njit(inline="always", fastmath=FMA)
 def _linear_modal(km, diag, a0, a1, u_prev, u_next):
     """A linear-mode step in modal coordinates: (z0', z1', y_lin)."""
     ss = u_prev + u_next
@@ -206,12 +184,12 @@ def _linear_modal(km, diag, a0, a1, u_prev, u_next):
     return _step2(km, a0, a1, ss, y0)
 
 
-@numba.njit(cache=True, fastmath=_FMA)
+@numba.njit(cache=True, fastmath=FMA)
 def piecewise_modal2(u, x0, p, q, r, c, d, f, v_hi, v_lo, has_amp, net, y, km, tv, diag):
-    """:func:`piecewise_walk2` with the linear mode in modal coordinates (see
-    :func:`_sample2m`): while the op-amp stays linear a tight loop runs the diagonal
-    recursion; a sample that reaches a rail, and every pinned sample, takes the full rules.
-    ``y`` may be ``u``."""
+    """:func:`piecewise_walk` for a stage of at most 2 states (tables padded to 2) with the
+    linear mode in modal coordinates (see :func:`_sample2m`): while the op-amp stays linear
+    a tight loop runs the diagonal recursion; a sample that reaches a rail, and every
+    pinned sample, takes the full rules. ``y`` may be ``u``."""
     k0, k1, k2 = (
         _coef2(p, q, r, c, d, f, 0),
         _coef2(p, q, r, c, d, f, 1),
@@ -241,9 +219,12 @@ def piecewise_modal2(u, x0, p, q, r, c, d, f, v_hi, v_lo, has_amp, net, y, km, t
         t += 1
 
 
-@numba.njit(cache=True, fastmath=_FMA)
+@numba.njit(cache=True, fastmath=FMA)
 def piecewise_pair_modal2(sig, xa, xb, ta, tb, ma_, mb_):
-    """:func:`piecewise_pair2` with each stage's linear mode in modal coordinates: while
+    """Two ≤ 2-state stages in series over one walk in a single pass, in place, each with
+    its linear mode in modal coordinates; ``ta``/``tb`` = (p, q, r, c, d, f, v_hi, v_lo,
+    has_amp, net), ``xa`` the first's initial states, ``xb`` the second's steady state (rest
+    and per-volt value of each state) started with the first's initial output. While
     both op-amps stay linear a tight loop runs both diagonal recursions; otherwise a sample
     takes the full rules of :func:`_sample2m`. ``ma_``/``mb_`` = (km, tv, diag)."""
     pa, qa, ra, ca, da, fa, ha, la, amp_a, net_a = ta
@@ -293,57 +274,3 @@ def piecewise_pair_modal2(sig, xa, xb, ta, tb, ma_, mb_):
         ub = ya
         sig[t] = yb
         t += 1
-
-
-@numba.njit(cache=True, fastmath=_FMA)
-def piecewise_walk2(u, x0, p, q, r, c, d, f, v_hi, v_lo, has_amp, net, y):
-    """:func:`piecewise_walk` for a stage of at most 2 states (tables padded to 2), with the
-    coefficients and the states in registers; ``y`` may be ``u``."""
-    k0, k1, k2 = (
-        _coef2(p, q, r, c, d, f, 0),
-        _coef2(p, q, r, c, d, f, 1),
-        _coef2(p, q, r, c, d, f, 2),
-    )
-    u_prev = u[0]
-    x_0, x_1 = x0[0], x0[1]
-    y[0], m = _start2(k0, x_0, x_1, u_prev, v_hi, v_lo, has_amp)
-    for t in range(1, u.shape[0]):
-        u_next = u[t]
-        x_0, x_1, m, yt = _sample2(
-            k0, k1, k2, v_hi, v_lo, has_amp, net, x_0, x_1, m, u_prev, u_next
-        )
-        y[t] = yt
-        u_prev = u_next
-
-
-@numba.njit(cache=True, fastmath=_FMA)
-def piecewise_pair2(sig, xa, xb, ta, tb):
-    """Two ≤ 2-state stages in series over one walk in a single pass, in place (their
-    recursions overlap in the CPU). ``ta``/``tb`` = (p, q, r, c, d, f, v_hi, v_lo, has_amp,
-    net) of :func:`piecewise_walk2`; ``xa`` the first's initial states; ``xb`` the second's
-    steady state (rest and per-volt value of each state), started with the first's initial
-    output."""
-    pa, qa, ra, ca, da, fa, ha, la, amp_a, net_a = ta
-    pb, qb, rb, cb, db, fb, hb, lb, amp_b, net_b = tb
-    a0k, a1k, a2k = (
-        _coef2(pa, qa, ra, ca, da, fa, 0),
-        _coef2(pa, qa, ra, ca, da, fa, 1),
-        _coef2(pa, qa, ra, ca, da, fa, 2),
-    )
-    b0k, b1k, b2k = (
-        _coef2(pb, qb, rb, cb, db, fb, 0),
-        _coef2(pb, qb, rb, cb, db, fb, 1),
-        _coef2(pb, qb, rb, cb, db, fb, 2),
-    )
-    ua = sig[0]
-    a0, a1 = xa[0], xa[1]
-    ub, ma = _start2(a0k, a0, a1, ua, ha, la, amp_a)
-    b0, b1 = xb[0] + xb[1] * ub, xb[2] + xb[3] * ub
-    sig[0], mb = _start2(b0k, b0, b1, ub, hb, lb, amp_b)
-    for t in range(1, sig.shape[0]):
-        u_next = sig[t]
-        a0, a1, ma, ya = _sample2(a0k, a1k, a2k, ha, la, amp_a, net_a, a0, a1, ma, ua, u_next)
-        ua = u_next
-        b0, b1, mb, yb = _sample2(b0k, b1k, b2k, hb, lb, amp_b, net_b, b0, b1, mb, ub, ya)
-        ub = ya
-        sig[t] = yb

@@ -28,7 +28,8 @@ from scipy import optimize
 from ..comparator import FixedWindow, LadderWindow, WindowComparator
 from ..disturbance import Draught, draught_parts, draught_transfer
 from ..errors import DesignError, check_positive
-from ..logic import PulseLogic, run_logic
+from ..logic import PulseLogic
+from ..logic_kernel import logic_counts
 from ..noise import NoiseSource, band_grid, noise_sources, total_psd
 from ..rice import clustered_alarm_rate, poisson_interval, spectral_moment, upcrossing_rate
 from ..synthesis import NoiseSynthesizer
@@ -182,9 +183,9 @@ def monte_carlo_rate(
     pulses = alarms = 0
     for c in range(n_chunks):
         v = rest + synth.next(n)
-        p, dec = run_logic(v, sample_rate, detector.comparator, logic)
-        pulses += p.start.size
-        alarms += sum(len(d.on_intervals) for d in dec)
+        counts, _ = logic_counts(v, sample_rate, detector.comparator, logic)
+        pulses += int(counts[:, 0].sum())
+        alarms += int(counts[:, 2].sum())
         if progress is not None:
             progress((c + 1) / n_chunks)
     total = n_chunks * n / sample_rate * streams

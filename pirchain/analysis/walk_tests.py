@@ -18,9 +18,7 @@ import numpy as np
 
 from ..chain import Detector
 from ..errors import DesignError, check_positive
-from ..logic import PulseLogic, run_logic
 from ..scene import Environment, Target, straight_walks
-from ..sensor import gate_voltage
 from ..synthesis import NoiseSynthesizer
 
 
@@ -196,10 +194,7 @@ def detect(
     n = walks.centre.shape[0]
     detected = np.zeros(n, dtype=bool)
     peak = np.zeros(n)
-    rest = detector.rest_levels()[-1]
-    beams = detector.beams()
     detector.window()  # warns if the rest level is outside the window
-    logic = detector.logic or PulseLogic()
     for c0 in range(0, n, chunk):
         sl = slice(c0, min(n, c0 + chunk))
         v = walks.speed[sl]
@@ -208,16 +203,14 @@ def detect(
         batch = straight_walks(
             start, walks.heading[sl], v, dur, sample_rate, start_times=0.5, lengths=walks.length
         )
-        power = detector.element_power(target, env, batch, beams)
-        gate = gate_voltage(detector.sensor, power, sample_rate)
-        vc = detector.analog(gate, sample_rate).comparator_input
+        noise = None
         if noise_sources:
-            synth = NoiseSynthesizer(noise_sources, sample_rate, vc.shape[0], seed * 100003 + c0)
+            synth = NoiseSynthesizer(noise_sources, sample_rate, batch.n_walks, seed * 100003 + c0)
             synth.next(int(10 * sample_rate))
-            vc = vc + synth.next(vc.shape[1])
-        _, dec = run_logic(vc, sample_rate, detector.comparator, logic)
-        detected[sl] = [d.detected for d in dec]
-        peak[sl] = np.max(np.abs(vc - rest), axis=1)
+            noise = synth.next(batch.n_samples)
+        out = detector.outcomes(target, env, batch, extra=noise)
+        detected[sl] = out.detected
+        peak[sl] = out.peak
         if progress is not None:
             progress(min(n, c0 + chunk) / n)
     return detected, peak
