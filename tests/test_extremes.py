@@ -27,6 +27,7 @@ def run(det, paths, duration, rate=100.0):
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         res = det.simulate(adult(), ENV, walks)
+        out = det.outcomes(adult(), ENV, walks, keep_waveform=True)  # the compiled pass
     others = [w for w in caught if not issubclass(w.category, ValidityWarning)]
     assert not others, [str(w.message) for w in others]
     for arr in (
@@ -34,8 +35,14 @@ def run(det, paths, duration, rate=100.0):
         res.front.gate_voltage,
         res.analog.comparator_input,
         *res.analog.stage_outputs,
+        out.comparator_input,
+        out.peak,
     ):
         assert np.all(np.isfinite(arr))
+    # the compiled pass agrees with the array path at the extremes too
+    span = np.ptp(res.analog.comparator_input) + 1e-3
+    np.testing.assert_allclose(out.comparator_input, res.analog.comparator_input, atol=1e-9 * span)
+    np.testing.assert_array_equal(out.detected, res.detected)
     return res, [w for w in caught if issubclass(w.category, ValidityWarning)]
 
 
