@@ -52,6 +52,17 @@ def half_order_sos(
     return sos
 
 
+def dominant_sources(sources, min_share: float = 1e-4, f_lo: float = 1e-3, f_hi: float = 1e3):
+    """The sources whose variance is at least ``min_share`` of the total (the rest change the
+    total variance by less than ``min_share`` × their number, and cost synthesis time)."""
+    sources = list(sources)
+    if not sources:
+        return sources
+    f = np.geomspace(f_lo, f_hi, 3000)
+    var = np.array([np.trapezoid(s.psd(f), f) for s in sources])
+    return [s for s, v in zip(sources, var, strict=True) if v >= min_share * var.sum()]
+
+
 class NoiseSynthesizer:
     """Independent streams of the sum of several shaped noises, generated chunk by chunk.
 

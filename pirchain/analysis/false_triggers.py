@@ -22,7 +22,6 @@ import dataclasses
 import math
 from dataclasses import dataclass
 
-import numpy as np
 from scipy import optimize
 
 from ..comparator import FixedWindow, LadderWindow, WindowComparator
@@ -32,7 +31,7 @@ from ..logic import PulseLogic
 from ..logic_kernel import logic_counts
 from ..noise import NoiseSource, band_grid, noise_sources, total_psd
 from ..rice import clustered_alarm_rate, poisson_interval, spectral_moment, upcrossing_rate
-from ..synthesis import NoiseSynthesizer
+from ..synthesis import NoiseSynthesizer, dominant_sources
 
 HOUR, DAY, YEAR = 3600.0, 86400.0, 365.25 * 86400.0
 
@@ -168,9 +167,7 @@ def monte_carlo_rate(
     """
     check_positive("duration", duration, "s")
     sources = comparator_sources(detector, env, draught) if sources is None else sources
-    f = band_grid(1e-3, 1e3, 3000)
-    var = np.array([np.trapezoid(s.psd(f), f) for s in sources])
-    keep = [s for s, v in zip(sources, var, strict=True) if v >= min_share * var.sum()]
+    keep = dominant_sources(sources, min_share)
     synth = NoiseSynthesizer(keep, sample_rate, streams, seed)
     rest = detector.rest_levels()[-1]
     logic = detector.logic or PulseLogic()

@@ -19,7 +19,7 @@ import numpy as np
 from ..chain import Detector
 from ..errors import DesignError, check_positive
 from ..scene import Environment, Target, straight_walks
-from ..synthesis import NoiseSynthesizer
+from ..synthesis import NoiseSynthesizer, dominant_sources
 
 
 @dataclass(frozen=True)
@@ -180,7 +180,8 @@ def detect(
     Parameters
     ----------
     noise_sources : list of NoiseSource, optional
-        If given, seeded noise with these sources is added at the comparator input.
+        If given, seeded noise with these sources is added at the comparator input (sources
+        below 1e-4 of the total variance are left out, as in the Monte Carlo).
     tail : float
         Time simulated after the walk ends [s].
 
@@ -195,6 +196,7 @@ def detect(
     detected = np.zeros(n, dtype=bool)
     peak = np.zeros(n)
     detector.window()  # warns if the rest level is outside the window
+    noise_sources = dominant_sources(noise_sources or [])
     for c0 in range(0, n, chunk):
         sl = slice(c0, min(n, c0 + chunk))
         v = walks.speed[sl]
