@@ -320,7 +320,7 @@ class Detector:
 
     def _check_sampling(self, walks: Walks) -> None:
         """Warn when the fastest beam crossing comes near the sample rate."""
-        if walks.n_samples < 2 or walks.sample_rate <= 0:
+        if walks.n_samples < 2 or walks.n_walks == 0 or walks.sample_rate <= 0:
             return
         k = max(1, walks.n_samples // 100)  # a speed estimate needs no more than ~100 points
         pos = walks.position[:, ::k]

@@ -212,3 +212,17 @@ def test_compiled_logic_equals_decide_on_random_waveforms():
         np.testing.assert_array_equal(counts[:, 1], [len(d.triggers) for d in dec])
         np.testing.assert_array_equal(counts[:, 2], [len(d.on_intervals) for d in dec])
         np.testing.assert_array_equal(first, [d.first_on for d in dec])
+
+
+def test_polyline_paths_short_and_empty_batches():
+    # per-sample headings (corners), two-sample walks and an empty batch: same as the arrays
+    det = demo_detector()
+    corners = Path(((6.0, -3.0), (6.0, 0.0), (3.0, 0.0), (3.0, 2.0)), 1.0)
+    walks = walks_from_paths([corners, Path(((10.0, 4.0), (2.0, -1.0)), 1.5)], 10.0, FS)
+    assert walks.heading.strides[1] != 0  # the heading changes along the walk
+    out, _ = assert_same(det, adult(), walks)
+    assert out.detected.all()
+    assert_same(det, adult(), straight_walks([[5.0, -1.0]], [[0.0, 1.0]], [1.0], 0.01, FS))
+    empty = straight_walks(np.zeros((0, 2)), np.ones((0, 2)), np.ones(0), 2.0, FS)
+    out = det.outcomes(adult(), ENV, empty)
+    assert out.detected.shape == (0,) and det.simulate(adult(), ENV, empty).detected.shape == (0,)
