@@ -5,12 +5,20 @@ through the bilinear-transform sections of its transfer function; a source whose
 rises as f (dielectric loss) first passes a half-order filter: alternating real zeros and
 poles, three pairs per decade, whose amplitude follows √(f/f_ref) to within ±0.1 dB between
 f_lo and f_hi (Keshner's pole–zero approximation of fractional-order noise). Filter states
-are carried from chunk to chunk, so a long run is one continuous realisation.
+are carried from chunk to chunk, so a long run is one continuous realisation. With
+``stationary=True`` the filter states start as a draw from their stationary distribution
+(covariance P = A P Aᵀ + B Bᵀ, the discrete Lyapunov equation of the cascade's state
+equations, summed by squaring), so the very first sample is already stationary and no
+warm-up is needed.
 
 References
 ----------
 .. [1] Keshner, M. S., "1/f noise", Proc. IEEE 70, 212 (1982): pole–zero approximation of
    fractional-power spectra.
+.. [2] Åström, K. J., *Introduction to Stochastic Control Theory*, Academic Press (1970),
+   ch. 3: the stationary covariance of a linear system driven by white noise.
+.. [3] Smith, R. A., "Matrix equation XA + BX = C", SIAM J. Appl. Math. 16, 198 (1968): the
+   doubling sum for the discrete Lyapunov equation.
 """
 
 from __future__ import annotations
@@ -63,6 +71,61 @@ def dominant_sources(sources, min_share: float = 1e-4, f_lo: float = 1e-3, f_hi:
     return [s for s, v in zip(sources, var, strict=True) if v >= min_share * var.sum()]
 
 
+def cascade_state_space(sos: np.ndarray):
+    """(A, B, C, D) of a cascade of sections in direct form II transposed, the states ordered
+    as ``scipy.signal.sosfilt``'s ``zi`` (section, 2): z' = A z + B w, y = C z + D w."""
+    n = 2 * sos.shape[0]
+    a = np.zeros((n, n))
+    b = np.zeros(n)
+    x_row, x_w = np.zeros(n), 1.0  # the section input as a combination of (states, w)
+    for k, (b0, b1, b2, _, a1, a2) in enumerate(sos / sos[:, 3:4]):
+        y_row = b0 * x_row
+        y_row[2 * k] += 1.0  # y = b0 x + z0
+        y_w = b0 * x_w
+        a[2 * k] = b1 * x_row - a1 * y_row  # z0' = b1 x − a1 y + z1
+        a[2 * k, 2 * k + 1] += 1.0
+        b[2 * k] = b1 * x_w - a1 * y_w
+        a[2 * k + 1] = b2 * x_row - a2 * y_row  # z1' = b2 x − a2 y
+        b[2 * k + 1] = b2 * x_w - a2 * y_w
+        x_row, x_w = y_row, y_w
+    return a, b, x_row, x_w
+
+
+def _lyapunov_doubling(a: np.ndarray, q: np.ndarray) -> np.ndarray:
+    """P = Σ_k A^k Q (A^k)ᵀ by squaring (Smith's doubling): a sum of positive semi-definite
+    terms, robust for poles close to the unit circle where the direct solvers lose it."""
+    p, ak = q.copy(), a.copy()
+    for _ in range(64):  # A^(2^64) → 0 for any pole below 1 − 1e-18
+        step = ak @ p @ ak.T
+        p = p + step
+        ak = ak @ ak
+        if np.abs(step).max() <= 1e-17 * np.abs(p).max():
+            break
+    return p
+
+
+def stationary_states(sos: np.ndarray, scale: float, streams: int, rng, check: int = 400):
+    """A draw of the cascade's states from their stationary distribution for white input of
+    standard deviation ``scale``, shaped as ``sosfilt``'s ``zi`` (sections, streams, 2);
+    None if the draw would not be stationary to 0.1 % over the first ``check`` samples
+    (a covariance too ill-conditioned to factor; the caller then warms the filter up)."""
+    a, b, c, d = cascade_state_space(sos)
+    p = _lyapunov_doubling(a, np.outer(b, b))
+    w, v = np.linalg.eigh(0.5 * (p + p.T))
+    root = v * np.sqrt(np.clip(w, 0.0, None))
+    # output variance after n samples from this start: |C Aⁿ root|² + Σ_{j<n} (C Aʲ B)² + D²
+    target = float(c @ p @ c + d * d)
+    row, noise = c.copy(), d * d
+    for _ in range(check):
+        var = float(np.sum((row @ root) ** 2)) + noise
+        if not abs(var - target) <= 1e-3 * target:
+            return None
+        noise += float(row @ b) ** 2
+        row = row @ a
+    z = scale * (root @ rng.standard_normal((a.shape[0], streams)))
+    return np.ascontiguousarray(z.reshape(sos.shape[0], 2, streams).transpose(0, 2, 1))
+
+
 class NoiseSynthesizer:
     """Independent streams of the sum of several shaped noises, generated chunk by chunk.
 
@@ -76,19 +139,29 @@ class NoiseSynthesizer:
         Number of independent realisations generated side by side.
     seed : int
         Seed of ``numpy.random.default_rng``.
+    stationary : bool
+        Start every filter in a draw from its stationary state (no warm-up needed); by
+        default the filters start at rest. ``warm_up_needed`` tells whether some filter
+        still starts at rest (its stationary draw failed the check).
     """
 
-    def __init__(self, sources, sample_rate: float, streams: int = 1, seed: int = 0):
+    def __init__(
+        self, sources, sample_rate: float, streams: int = 1, seed: int = 0, stationary=False
+    ):
         self.fs = float(sample_rate)
         self.streams = int(streams)
         self.rng = np.random.default_rng(seed)
         self.filters = []
+        self.warm_up_needed = not stationary
         for src in sources:
             sos = tf_sos(src.transfer, self.fs)
-            if src.rising:
-                sos = np.vstack([half_order_sos(self.fs), sos])
+            if src.rising:  # after the transfer sections: better-conditioned states
+                sos = np.vstack([sos, half_order_sos(self.fs)])
             scale = math.sqrt(src.level * self.fs / 2.0)
-            zi = np.zeros((sos.shape[0], self.streams, 2))
+            zi = stationary_states(sos, scale, self.streams, self.rng) if stationary else None
+            self.warm_up_needed |= zi is None
+            if zi is None:
+                zi = np.zeros((sos.shape[0], self.streams, 2))
             self.filters.append([sos, scale, zi])
 
     def next(self, n: int) -> np.ndarray:

@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 from scipy import constants, signal
 
-from pirchain.demo import demo_detector
+from pirchain.demo import demo_detector, demo_environment
 from pirchain.noise import (
     band_grid,
     band_variance,
@@ -97,3 +97,34 @@ def test_synthesised_noise_has_the_analytic_psd():
     for a, b in [(0.7, 1.5), (1.5, 3.0), (3.0, 6.0), (6.0, 10.0)]:
         k = (f >= a) & (f < b)
         assert pxx[k].mean() == pytest.approx(expect[k].mean(), rel=0.10)
+
+
+def test_stationary_start_needs_no_warm_up():
+    # Reference: the stationary covariance of a linear system driven by white noise solves
+    # the discrete Lyapunov equation (Åström 1970, ch. 3). Started from a draw of it, the
+    # synthesised rms at samples 0, 50 and 200 equals √∫S df of the analytic PSD (20 000
+    # streams: standard error of an rms 0.5 %), and the cascade's state equations reproduce
+    # scipy.signal.sosfilt's final state.
+    from pirchain.analysis.false_triggers import comparator_sources
+    from pirchain.synthesis import cascade_state_space, dominant_sources
+
+    src = dominant_sources(comparator_sources(demo_detector(), demo_environment()))
+    assert any(s.rising for s in src)  # the half-order (dielectric loss) filter is included
+    f = np.geomspace(1e-4, 50.0, 20000)
+    rms = math.sqrt(np.trapezoid(total_psd(src, f), f))
+    synth = NoiseSynthesizer(src, 100.0, 20000, 5, stationary=True)
+    assert not synth.warm_up_needed
+    x = synth.next(201)
+    np.testing.assert_allclose(x.std(axis=0)[[0, 50, 200]], rms, rtol=0.03)
+    rest = NoiseSynthesizer(src, 100.0, 20000, 5).next(1)  # from rest: far below
+    assert rest.std() < 0.2 * rms
+    sos = np.vstack([signal.butter(4, 0.1, output="sos"), half_order_sos(100.0)[:3]])
+    a, b, c, d = cascade_state_space(sos)
+    rng = np.random.default_rng(0)
+    w, zi = rng.standard_normal(50), rng.standard_normal((sos.shape[0], 2))
+    y, zf = signal.sosfilt(sos, w, zi=zi)
+    z = zi.ravel()
+    for k, v in enumerate(w):
+        assert c @ z + d * v == pytest.approx(y[k], rel=1e-9, abs=1e-12)
+        z = a @ z + b * v
+    np.testing.assert_allclose(z, zf.ravel(), rtol=1e-9, atol=1e-12)

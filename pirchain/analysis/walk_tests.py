@@ -207,8 +207,11 @@ def detect(
         )
         noise = None
         if noise_sources:
-            synth = NoiseSynthesizer(noise_sources, sample_rate, batch.n_walks, seed * 100003 + c0)
-            synth.next(int(10 * sample_rate))
+            synth = NoiseSynthesizer(
+                noise_sources, sample_rate, batch.n_walks, seed * 100003 + c0, stationary=True
+            )
+            if synth.warm_up_needed:
+                synth.next(int(10 * sample_rate))
             noise = synth.next(batch.n_samples)
         out = detector.outcomes(target, env, batch, extra=noise)
         detected[sl] = out.detected
