@@ -2,13 +2,19 @@
 
 For every walk (walks split over the CPU cores) the kernel runs, on buffers the size of one
 walk: the optics of :mod:`pirchain.optics_kernel` folded straight into the equivalent gate
-power Σ c_k P_k, the sensor's sections (direct form II transposed, as ``scipy.signal.sosfilt``),
+power Σ c_k P_k, the sensor's section (in parallel form Σ r_i/(1 − p_i z⁻¹) + k when its
+poles are real and distinct, else direct form II transposed as ``scipy.signal.sosfilt``),
 the JFET follower's square law, every stage's linear / rail-pinned trapezoidal integration of
 :mod:`pirchain.saturation_kernel` (started in steady state with its first input, as
-:func:`pirchain.saturation.run_stage`), optional added noise, and the comparator and rules of
-:mod:`pirchain.logic_kernel`. It is the same model as :meth:`pirchain.chain.Detector.simulate`
-(tested equal to rounding); it keeps per-walk outcomes instead of every waveform, which is
-what range, coverage and sweep studies need.
+:func:`pirchain.saturation.run_stage`; the linear mode in modal coordinates), optional added
+noise, and the comparator and rules of :mod:`pirchain.logic_kernel`. It is the same model as
+:meth:`pirchain.chain.Detector.simulate` (tested equal to rounding); it keeps per-walk
+outcomes instead of every waveform, which is what range, coverage and sweep studies need.
+
+References
+----------
+.. [1] Oppenheim, A. V. and Schafer, R. W., *Discrete-Time Signal Processing*, 3rd ed.,
+   Pearson (2010), §6.3–6.5: direct, cascade and parallel forms of IIR systems.
 """
 
 from __future__ import annotations
