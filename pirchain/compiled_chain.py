@@ -123,10 +123,7 @@ def analog_walk(sig, sensor_sos, sensor_par, jfet, pw):
     s = 0
     while s < n_s:
         x0 = pin_x0[s, 0] + pin_x0[s, 1] * sig[0]
-        ta = (
-            pin_p[s], pin_q[s], pin_r[s], pin_c[s], pin_df[s, 0], pin_df[s, 1],
-            pin_rail[s, 0], pin_rail[s, 1], pin_flags[s, 0] > 0, pin_flags[s, 1] > 0,
-        )  # fmt: skip
+        ta = _stage_tuple(pw, s)
         mod_a = _modal_tuple(pin_modal[s])
         if s + 1 == n_s:
             pa, qa, ra, ca, da, fa, ha, la, am, ne = ta
@@ -134,13 +131,20 @@ def analog_walk(sig, sensor_sos, sensor_par, jfet, pw):
             piecewise_modal2(sig, x0, pa, qa, ra, ca, da, fa, ha, la, am, ne, sig, km, tv, dg)
             return
         b = s + 1
-        tb = (
-            pin_p[b], pin_q[b], pin_r[b], pin_c[b], pin_df[b, 0], pin_df[b, 1],
-            pin_rail[b, 0], pin_rail[b, 1], pin_flags[b, 0] > 0, pin_flags[b, 1] > 0,
-        )  # fmt: skip
+        tb = _stage_tuple(pw, b)
         xb = np.array([pin_x0[b, 0, 0], pin_x0[b, 1, 0], pin_x0[b, 0, 1], pin_x0[b, 1, 1]])
         piecewise_pair_modal2(sig, x0, xb, ta, tb, mod_a, _modal_tuple(pin_modal[b]))
         s += 2
+
+
+@numba.njit(inline="always")
+def _stage_tuple(pw, s):
+    """(p, q, r, c, d, f, v_hi, v_lo, has_amp, net) of stage ``s`` from the tables ``pw``."""
+    _, p, q, r, c, df, rail, flags, _, _ = pw
+    return (
+        p[s], q[s], r[s], c[s], df[s, 0], df[s, 1], rail[s, 0], rail[s, 1], flags[s, 0] > 0,
+        flags[s, 1] > 0,
+    )  # fmt: skip
 
 
 @numba.njit(inline="always")

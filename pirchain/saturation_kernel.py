@@ -31,6 +31,26 @@ def _step(p_all, q_all, r_all, m, x, s, xn, c, y0):
     return y
 
 
+@numba.njit(inline="always", fastmath=FMA)
+def _next_mode(m, yl, v_hi, v_lo, has_amp, net):
+    """Mode after a step (0 linear, 1 high rail, 2 low rail): a pinned op-amp whose linear
+    output is back inside leaves the rail, one past the other rail is pinned there; without
+    a network the mode is only the output clamp."""
+    if not has_amp:
+        return m
+    if not net:
+        return 1 if yl > v_hi else (2 if yl < v_lo else 0)
+    if m == 1 and yl <= v_hi:
+        m = 0
+    elif m == 2 and yl >= v_lo:
+        m = 0
+    if m == 0 and yl > v_hi:
+        m = 1
+    elif m == 0 and yl < v_lo:
+        m = 2
+    return m
+
+
 @numba.njit(cache=True, fastmath=FMA)
 def piecewise_walk(u, x0, p_all, q_all, r_all, c, d, f, v_hi, v_lo, has_amp, net, y, pinned):
     """Integrate one walk's input ``u`` (samples,) from states ``x0`` into ``y``, ``pinned``.
@@ -45,12 +65,7 @@ def piecewise_walk(u, x0, p_all, q_all, r_all, c, d, f, v_hi, v_lo, has_amp, net
     y_lin = d * u[0] + f
     for i in range(n):
         y_lin += c[i] * x[i]
-    mode = 0
-    if has_amp:
-        if y_lin > v_hi:
-            mode = 1
-        elif y_lin < v_lo:
-            mode = 2
+    mode = _next_mode(0, y_lin, v_hi, v_lo, has_amp, False)  # at a rail from the start?
     u_prev = u[0]
     y[0] = v_hi if mode == 1 else (v_lo if mode == 2 else y_lin)
     pinned[0] = mode != 0
@@ -64,18 +79,7 @@ def piecewise_walk(u, x0, p_all, q_all, r_all, c, d, f, v_hi, v_lo, has_amp, net
             yl = _step(p_all, q_all, r_all, mode, x, s, xn, c, d * u_next + f)
         for i in range(n):
             x[i] = xn[i]
-        if has_amp:
-            if net:
-                if mode == 1 and yl <= v_hi:
-                    mode = 0
-                elif mode == 2 and yl >= v_lo:
-                    mode = 0
-                if mode == 0 and yl > v_hi:
-                    mode = 1
-                elif mode == 0 and yl < v_lo:
-                    mode = 2
-            else:
-                mode = 1 if yl > v_hi else (2 if yl < v_lo else 0)
+        mode = _next_mode(mode, yl, v_hi, v_lo, has_amp, net)
         y[t + 1] = v_hi if mode == 1 else (v_lo if mode == 2 else yl)
         pinned[t + 1] = mode != 0
 
@@ -98,6 +102,12 @@ def _coef2(p, q, r, c, d, f, m):
 
 
 @numba.njit(inline="always", fastmath=FMA)
+def _modes2(p, q, r, c, d, f):
+    """The coefficient tuples of the three modes (linear, high rail, low rail)."""
+    return _coef2(p, q, r, c, d, f, 0), _coef2(p, q, r, c, d, f, 1), _coef2(p, q, r, c, d, f, 2)
+
+
+@numba.njit(inline="always", fastmath=FMA)
 def _step2(k, x_0, x_1, ss, y0):
     """One trapezoidal step with coefficients ``k``: (x0', x1', y_lin)."""
     n0 = k[0] * x_0 + k[1] * x_1 + k[4] * ss + k[6]
@@ -109,9 +119,7 @@ def _step2(k, x_0, x_1, ss, y0):
 def _start2(k, x_0, x_1, u0, v_hi, v_lo, has_amp):
     """Output and mode at the first sample: (y, mode)."""
     yl = k[10] * u0 + k[11] + k[8] * x_0 + k[9] * x_1
-    m = 0
-    if has_amp:
-        m = 1 if yl > v_hi else (2 if yl < v_lo else 0)
+    m = _next_mode(0, yl, v_hi, v_lo, has_amp, False)
     return (v_hi if m == 1 else (v_lo if m == 2 else yl)), m
 
 
@@ -143,18 +151,7 @@ def _sample2m(km, tv, diag, k1, k2, v_hi, v_lo, has_amp, net, a0, a1, m, u_prev,
             modal = False
     else:
         n0, n1, yl = _step2(k1 if m == 1 else k2, a0, a1, ss, y0)
-    if has_amp:
-        if net:
-            if m == 1 and yl <= v_hi:
-                m = 0
-            elif m == 2 and yl >= v_lo:
-                m = 0
-            if m == 0 and yl > v_hi:
-                m = 1
-            elif m == 0 and yl < v_lo:
-                m = 2
-        else:
-            m = 1 if yl > v_hi else (2 if yl < v_lo else 0)
+    m = _next_mode(m, yl, v_hi, v_lo, has_amp, net)
     want = m == 0 or not net
     if want and not modal:
         n0, n1 = tv[4] * n0 + tv[5] * n1, tv[6] * n0 + tv[7] * n1
@@ -190,11 +187,7 @@ def piecewise_modal2(u, x0, p, q, r, c, d, f, v_hi, v_lo, has_amp, net, y, km, t
     linear mode in modal coordinates (see :func:`_sample2m`): while the op-amp stays linear
     a tight loop runs the diagonal recursion; a sample that reaches a rail, and every
     pinned sample, takes the full rules. ``y`` may be ``u``."""
-    k0, k1, k2 = (
-        _coef2(p, q, r, c, d, f, 0),
-        _coef2(p, q, r, c, d, f, 1),
-        _coef2(p, q, r, c, d, f, 2),
-    )
+    k0, k1, k2 = _modes2(p, q, r, c, d, f)
     n_t = u.shape[0]
     u_prev = u[0]
     a0, a1, m, y[0] = _begin2(km, tv, k0, x0[0], x0[1], u_prev, v_hi, v_lo, has_amp, net)
@@ -231,16 +224,8 @@ def piecewise_pair_modal2(sig, xa, xb, ta, tb, ma_, mb_):
     pb, qb, rb, cb, db, fb, hb, lb, amp_b, net_b = tb
     kma, tva, dga = ma_
     kmb, tvb, dgb = mb_
-    a0k, a1k, a2k = (
-        _coef2(pa, qa, ra, ca, da, fa, 0),
-        _coef2(pa, qa, ra, ca, da, fa, 1),
-        _coef2(pa, qa, ra, ca, da, fa, 2),
-    )
-    b0k, b1k, b2k = (
-        _coef2(pb, qb, rb, cb, db, fb, 0),
-        _coef2(pb, qb, rb, cb, db, fb, 1),
-        _coef2(pb, qb, rb, cb, db, fb, 2),
-    )
+    a0k, a1k, a2k = _modes2(pa, qa, ra, ca, da, fa)
+    b0k, b1k, b2k = _modes2(pb, qb, rb, cb, db, fb)
     n_t = sig.shape[0]
     ua = sig[0]
     a0, a1, ma, ub = _begin2(kma, tva, a0k, xa[0], xa[1], ua, ha, la, amp_a, net_a)
