@@ -1,0 +1,94 @@
+"""Results unchanged by the single-engine rework (issue 11): every command of
+``tests/golden/commands.py`` is rerun and compared with the outputs recorded by the code
+before it (commit 43578a2, the two-path chain that ngspice and the published checks of the
+other test files validated).
+
+Comparison: strings, booleans and integers exactly; floating-point numbers within a
+relative 1e-9 (rounding differences of reordered sums, orders above 1e-16 and far below any
+physical effect); waveforms within 1e-9 of each column's largest magnitude.
+"""
+
+import contextlib
+import io
+import json
+import math
+import os
+import re
+import sys
+
+import numpy as np
+import pytest
+
+from pirchain.cli import main
+
+HERE = os.path.join(os.path.dirname(os.path.abspath(__file__)), "golden")
+sys.path.insert(0, HERE)
+from commands import COMMANDS  # noqa: E402
+
+RTOL = 1e-9
+
+
+def assert_tree_close(new, old, where="$"):
+    if isinstance(old, dict):
+        assert isinstance(new, dict) and set(new) == set(old), where
+        for k in old:
+            assert_tree_close(new[k], old[k], f"{where}.{k}")
+    elif isinstance(old, list):
+        assert isinstance(new, list) and len(new) == len(old), where
+        for i, (a, b) in enumerate(zip(new, old, strict=True)):
+            assert_tree_close(a, b, f"{where}[{i}]")
+    elif isinstance(old, float) and not isinstance(new, bool):
+        assert isinstance(new, (int, float)), where
+        assert math.isclose(new, old, rel_tol=RTOL, abs_tol=1e-300), (where, new, old)
+    else:
+        assert new == old, (where, new, old)
+
+
+def run(args, out_dir):
+    buf = io.StringIO()
+    argv = [a.format(out=out_dir) for a in args]
+    with contextlib.redirect_stdout(buf), contextlib.redirect_stderr(io.StringIO()):
+        assert main(argv) == 0, argv
+    return buf.getvalue()
+
+
+def compare_csv(new_path, old_path):
+    with open(old_path, encoding="utf-8") as fh:
+        head_old = fh.readline()
+    with open(new_path, encoding="utf-8") as fh:
+        head_new = fh.readline()
+    assert head_new == head_old
+    a = np.loadtxt(new_path, delimiter=",", skiprows=1)
+    b = np.loadtxt(old_path, delimiter=",", skiprows=1)
+    assert a.shape == b.shape
+    scale = np.max(np.abs(b), axis=0) + 1e-30
+    assert np.all(np.abs(a - b) <= RTOL * scale), np.max(np.abs(a - b) / scale, axis=0)
+
+
+_NUM = re.compile(r"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?")
+
+
+def compare_text(new_path, old_path):
+    new = open(new_path, encoding="utf-8").read()
+    old = open(old_path, encoding="utf-8").read()
+    assert _NUM.sub("#", new) == _NUM.sub("#", old)  # same text around the numbers
+    a = np.array([float(x) for x in _NUM.findall(new)])
+    b = np.array([float(x) for x in _NUM.findall(old)])
+    # numbers are printed to 10 significant digits: allow one unit in the last digit
+    np.testing.assert_allclose(a, b, rtol=2e-9, atol=1e-30)
+
+
+@pytest.mark.parametrize("name,args,files", COMMANDS, ids=[c[0] for c in COMMANDS])
+def test_command_output_unchanged(name, args, files, tmp_path):
+    text = run(args, str(tmp_path))
+    new = json.loads(text)
+    old = json.load(open(os.path.join(HERE, f"{name}.json"), encoding="utf-8"))
+    new.pop("written", None)
+    old.pop("written", None)
+    assert_tree_close(new, old)
+    for f in files:
+        mine, theirs = str(tmp_path / f), os.path.join(HERE, f"{name}.{f}")
+        if f.endswith(".csv"):
+            compare_csv(mine, theirs)
+        else:
+            compare_text(mine, theirs)
