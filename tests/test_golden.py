@@ -19,7 +19,7 @@ import sys
 import numpy as np
 import pytest
 
-from pirchain.cli import main
+from pirchain.interface.cli import main
 
 HERE = os.path.join(os.path.dirname(os.path.abspath(__file__)), "golden")
 sys.path.insert(0, HERE)

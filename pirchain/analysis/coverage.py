@@ -15,6 +15,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import DesignError, check_positive
+from ..settings import AnalysisSettings
 from .false_triggers import comparator_sources
 from .walk_tests import WalkSet, detect, walk_heading
 
@@ -48,30 +49,60 @@ def top_view(
     target,
     env,
     kind: str = "tangential",
-    speed: float = 1.22,
-    cell: float = 0.91,
-    x_max: float = 16.0,
+    settings: AnalysisSettings | None = None,
     y_max: float | None = None,
-    trials: int = 4,
-    seed: int = 0,
-    noise: bool = True,
     chunk: int = 256,
-    sample_rate: float = 100.0,
     walk_length: float | None = None,
     progress=None,
 ) -> CoverageMap:
-    """Top-view coverage map (defaults: NEMA WD 7 cell 0.91 m and 1.22 m/s)."""
+    """Top-view coverage map: P(detect) of a standard walk through every floor cell.
+
+    Parameters
+    ----------
+    detector : Detector
+        The design; a wall unit's map covers the half-plane in front of it, a ceiling
+        unit's the whole square.
+    target : Target
+        Who walks.
+    env : Environment
+        The room.
+    kind : {"tangential", "radial"}
+        Each cell's walk crosses the line of sight to the cell, or runs along it.
+    settings : AnalysisSettings, optional
+        ``coverage_cell``, ``coverage_x_max``, ``coverage_trials``, ``coverage_speed``,
+        ``seed``, ``noise`` and ``sample_rate`` are used; default
+        :class:`AnalysisSettings()` (the NEMA WD 7-2011 walk at 1.22 m/s).
+    y_max : float, optional
+        Half-extent across the boresight [m]; default ``settings.coverage_x_max``.
+    chunk : int
+        Walks per batch (memory bound).
+    walk_length : float, optional
+        Length of each walk [m]; default two cells.
+    progress : callable, optional
+        Called with the fraction done.
+
+    Returns
+    -------
+    CoverageMap
+        Cell centres and P(detect) per cell.
+
+    Notes
+    -----
+    Each cell gets ``settings.coverage_trials`` walks through random points inside it,
+    run through the whole chain with seeded noise at the comparator input when
+    ``settings.noise``; the cell's probability is the share that turns the output on.
+    """
+    s = AnalysisSettings() if settings is None else settings
     if kind not in ("tangential", "radial"):
         raise DesignError("coverage.kind", kind, "'tangential' or 'radial'")
-    check_positive("coverage.cell", cell, "m")
-    check_positive("coverage.x_max", x_max, "m")
+    cell, x_max, trials = s.coverage_cell, s.coverage_x_max, s.coverage_trials
     y_max = x_max if y_max is None else check_positive("coverage.y_max", y_max, "m")
     wall = detector.mount.kind == "wall"
     x = np.arange(cell / 2 if wall else -x_max + cell / 2, x_max, cell)
     y = np.arange(-y_max + cell / 2, y_max, cell)
     gx, gy = np.meshgrid(x, y)
     cx, cy = gx.ravel(), gy.ravel()
-    rng = np.random.default_rng(seed)
+    rng = np.random.default_rng(s.seed)
     cx = np.repeat(cx, trials) + rng.uniform(-0.5, 0.5, cx.size * trials) * cell
     cy = np.repeat(cy, trials) + rng.uniform(-0.5, 0.5, cy.size * trials) * cell
     rho = np.maximum(np.hypot(cx, cy), 0.05)
@@ -80,13 +111,15 @@ def top_view(
     walks = WalkSet(
         np.stack([cx, cy], axis=1),
         head,
-        np.full(cx.size, float(speed)),
+        np.full(cx.size, float(s.coverage_speed)),
         2.0 * cell if walk_length is None else float(walk_length),
     )
-    src = comparator_sources(detector, env) if noise else None
-    hit, _ = detect(detector, target, env, walks, sample_rate, src, seed, chunk, progress=progress)
+    src = comparator_sources(detector, env) if s.noise else None
+    hit, _ = detect(
+        detector, target, env, walks, s.sample_rate, src, s.seed, chunk, progress=progress
+    )
     prob = hit.reshape(gy.size, trials).mean(axis=1).reshape(gy.shape)
-    return CoverageMap(x, y, prob, kind, float(speed), int(cx.size))
+    return CoverageMap(x, y, prob, kind, float(s.coverage_speed), int(cx.size))
 
 
 @dataclass(frozen=True)

@@ -13,7 +13,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..errors import check_positive, check_range
+from ..errors import check_positive
+from ..settings import AnalysisSettings
 from .false_triggers import comparator_sources
 from .walk_tests import beam_pitch, detect, make_walks
 
@@ -24,8 +25,12 @@ class RangeResult:
 
     Attributes
     ----------
-    bearing_deg, speed : float
+    bearing_deg : float
+        [°].
     kind : str
+        "tangential" or "radial".
+    speed : float
+        [m s⁻¹].
     level : float
         Required P(detect).
     distances : numpy.ndarray
@@ -36,6 +41,10 @@ class RangeResult:
         Farthest distance meeting the level [m]; 0 if none.
     gaps : tuple of (float, float)
         Grid intervals closer than the range that fail the level [m].
+    sample_rate : float
+        Analog sample rate of the walks [Hz].
+    trials : int
+        Walks per distance.
     """
 
     bearing_deg: float
@@ -48,6 +57,8 @@ class RangeResult:
     range: float
     range_noise_free: float
     gaps: tuple[tuple[float, float], ...]
+    sample_rate: float
+    trials: int
 
 
 def probability_of_detection(
@@ -68,7 +79,35 @@ def probability_of_detection(
 ):
     """P(detect) for each broadcast combination of distance, bearing and speed.
 
-    ``jitter`` is the angular spread of start positions [rad]; default one beam pitch.
+    Parameters
+    ----------
+    detector : Detector
+    target : Target
+    env : Environment
+    distances : array_like
+        [m].
+    bearing_deg, speed : array_like
+        [°], [m s⁻¹]; broadcast with ``distances``.
+    kind : {"tangential", "radial"}
+    trials : int
+        Walks per combination, at random positions relative to the beams.
+    seed : int
+        Seed of the positions and the noise.
+    noise : bool
+        Add seeded noise (every source of the budget) at the comparator input.
+    length : float
+        Walk length [m].
+    sample_rate : float
+        [Hz].
+    sources : list of NoiseSource, optional
+        The noise sources (default: :func:`comparator_sources`).
+    jitter : float, optional
+        Angular spread of start positions [rad]; default one beam pitch.
+
+    Returns
+    -------
+    numpy.ndarray
+        P(detect), the broadcast shape.
     """
     d, b, v = np.broadcast_arrays(
         np.atleast_1d(np.asarray(distances, float)),
@@ -84,7 +123,7 @@ def probability_of_detection(
     return hit.reshape(d.size, trials).mean(axis=1).reshape(d.shape)
 
 
-def _farthest(dist, prob, level):
+def _farthest(prob, level):
     ok = np.flatnonzero(prob >= level)
     return int(ok[-1]) if ok.size else -1
 
@@ -93,80 +132,128 @@ def detection_range(
     detector,
     target,
     env,
-    bearing_deg=0.0,
-    speed=1.0,
-    kind="tangential",
-    level=0.9,
-    d_min=0.5,
-    d_max=30.0,
-    step=1.0,
-    trials=16,
-    seed=0,
-    noise=True,
-    refine=4,
-    sample_rate=100.0,
-    jitter=None,
+    bearing_deg: float = 0.0,
+    speed: float = 1.0,
+    kind: str = "tangential",
+    settings: AnalysisSettings | None = None,
+    jitter: float | None = None,
 ) -> RangeResult:
-    """Range on one bearing (grid + bisection), with the noise-free range beside it."""
-    check_range("level", level, 0.01, 1.0)
-    check_positive("step", step, "m")
-    grid = np.arange(d_min, d_max + 1e-9, step)
-    src = comparator_sources(detector, env) if noise else None
+    """Detection range on one bearing (grid + bisection), with the noise-free range beside it.
+
+    Parameters
+    ----------
+    detector : Detector
+        The design.
+    target : Target
+        Who walks.
+    env : Environment
+        The room (its temperature sets the target's contrast and the noise).
+    bearing_deg : float
+        Bearing of the walks [°] (0: the boresight).
+    speed : float
+        Walking speed [m s⁻¹].
+    kind : {"tangential", "radial"}
+        Walks across the line of sight, or along it towards the detector.
+    settings : AnalysisSettings, optional
+        ``level``, ``d_min``, ``d_max``, ``step``, ``refine``, ``trials``, ``seed``,
+        ``noise`` and ``sample_rate`` are used; default :class:`AnalysisSettings()`.
+    jitter : float, optional
+        Angular spread of the walk positions [rad]; default one beam pitch.
+
+    Returns
+    -------
+    RangeResult
+        The range at P(detect) ≥ ``settings.level`` [m], the noise-free range, the grid
+        probabilities and the gaps.
+
+    Notes
+    -----
+    P(detect) at each distance is estimated from ``settings.trials`` walks 3 m long at random
+    positions within one beam-pattern period (:func:`pirchain.analysis.walk_tests.make_walks`),
+    run through the whole chain with seeded noise at the comparator input. The range is the
+    farthest grid distance that meets the level, refined by ``settings.refine`` bisection
+    steps towards the next grid distance.
+    """
+    s = AnalysisSettings() if settings is None else settings
+    check_positive("speed", speed, "m/s")
+    grid = np.arange(s.d_min, s.d_max + 1e-9, s.step)
+    src = comparator_sources(detector, env) if s.noise else None
     kw = dict(
         bearing_deg=bearing_deg,
         speed=speed,
         kind=kind,
-        trials=trials,
-        seed=seed,
-        sample_rate=sample_rate,
+        trials=s.trials,
+        seed=s.seed,
+        sample_rate=s.sample_rate,
         jitter=jitter,
     )
     p_free = probability_of_detection(detector, target, env, grid, noise=False, **kw)
     p = (
-        probability_of_detection(detector, target, env, grid, noise=noise, sources=src, **kw)
-        if noise
+        probability_of_detection(detector, target, env, grid, noise=True, sources=src, **kw)
+        if s.noise
         else p_free
     )
 
     def refined(prob, use_noise):
-        k = _farthest(grid, prob, level)
+        k = _farthest(prob, s.level)
         if k < 0:
             return 0.0
         if k == grid.size - 1:
             return float(grid[-1])
         a, b = grid[k], grid[k + 1]
-        for _ in range(refine):
+        for _ in range(s.refine):
             mid = 0.5 * (a + b)
             pm = probability_of_detection(
                 detector, target, env, [mid], noise=use_noise, sources=src, **kw
             )[0]
-            a, b = (mid, b) if pm >= level else (a, mid)
+            a, b = (mid, b) if pm >= s.level else (a, mid)
         return float(a)
 
-    rng = refined(p, noise)
-    rng_free = refined(p_free, False) if noise else rng
-    k = _farthest(grid, p, level)
+    rng = refined(p, s.noise)
+    rng_free = refined(p_free, False) if s.noise else rng
+    k = _farthest(p, s.level)
     gaps, start = [], None
     for i in range(k + 1):
-        if p[i] < level and start is None:
+        if p[i] < s.level and start is None:
             start = grid[i]
-        if p[i] >= level and start is not None:
+        if p[i] >= s.level and start is not None:
             gaps.append((float(start), float(grid[i - 1])))
             start = None
     return RangeResult(
-        float(bearing_deg),
-        kind,
-        float(speed),
-        float(level),
-        grid,
-        p,
-        p_free,
-        rng,
-        rng_free,
-        tuple(gaps),
-    )
+        float(bearing_deg), kind, float(speed), float(s.level), grid, p, p_free, rng,
+        rng_free, tuple(gaps), float(s.sample_rate), int(s.trials),
+    )  # fmt: skip
 
 
-def range_by_bearing(detector, target, env, bearings_deg, **kw) -> list[RangeResult]:
-    """:func:`detection_range` on every bearing."""
-    return [detection_range(detector, target, env, float(b), **kw) for b in bearings_deg]
+def range_table(design, kinds=("tangential", "radial"), bearings=None, progress=None):
+    """:func:`detection_range` of a design for every kind and bearing of its settings.
+
+    Parameters
+    ----------
+    design : Design
+        Detector, target, room, speed and settings (``settings.bearings`` by default).
+    kinds : sequence of str
+    bearings : sequence of float, optional
+        [°]; default ``design.analysis.bearings``.
+    progress : callable, optional
+        Called with the fraction done.
+
+    Returns
+    -------
+    list of RangeResult
+        Kinds in order, bearings within each.
+    """
+    bearings = design.analysis.bearings if bearings is None else tuple(bearings)
+    out = []
+    n = len(kinds) * len(bearings)
+    for kind in kinds:
+        for b in bearings:
+            out.append(
+                detection_range(
+                    design.detector, design.target, design.environment, float(b),
+                    design.speed, kind, design.analysis,
+                )
+            )  # fmt: skip
+            if progress is not None:
+                progress(len(out) / n)
+    return out

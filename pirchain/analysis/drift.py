@@ -1,4 +1,9 @@
-"""Deterministic disturbances through the whole chain: ambient ramps and HVAC cycling."""
+"""Deterministic disturbances through the whole chain: ambient ramps and HVAC cycling.
+
+The disturbance's equivalent gate power (:mod:`pirchain.physics.disturbance`) is driven
+into the chain at that node, so the sensor, the stages with their rails and the logic all
+act on it.
+"""
 
 from __future__ import annotations
 
@@ -7,9 +12,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..disturbance import AmbientRamp, HvacCycle, hvac_power, ramp_power
-from ..logic import PulseLogic, run_logic
-from ..sensor import gate_voltage_from_power
+from ..physics.disturbance import AmbientRamp, HvacCycle, hvac_power, ramp_power
 
 
 @dataclass(frozen=True)
@@ -38,13 +41,10 @@ class DisturbanceResponse:
 
 
 def _respond(detector, t, p_eq, sample_rate) -> DisturbanceResponse:
-    gate = gate_voltage_from_power(detector.sensor, p_eq[None, :], sample_rate)
-    ana = detector.analog(gate, sample_rate)
-    v = ana.comparator_input[0]
-    rest = detector.rest_levels()[-1]
-    _, dec = run_logic(v[None, :], sample_rate, detector.comparator, detector.logic or PulseLogic())
+    run = detector.drive("equivalent_power", p_eq[None, :], sample_rate, ("comparator",))
+    out = run.outcomes
     return DisturbanceResponse(
-        t, p_eq, v, float(np.max(np.abs(v - rest))), len(dec[0].on_intervals)
+        t, p_eq, run.comparator_input[0], float(out.peak[0]), int(out.turn_ons[0])
     )
 
 

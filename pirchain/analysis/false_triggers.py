@@ -24,21 +24,20 @@ from dataclasses import dataclass
 
 from scipy import optimize
 
-from ..comparator import FixedWindow, LadderWindow, WindowComparator
-from ..disturbance import Draught, draught_parts, draught_transfer
+from ..circuit.comparator import FixedWindow, WindowComparator
+from ..circuit.noise import NoiseSource, band_grid, noise_sources, total_psd
+from ..circuit.synthesis import NoiseSynthesizer, dominant_sources
 from ..errors import DesignError, check_positive
-from ..logic import PulseLogic
-from ..logic_kernel import logic_counts
-from ..noise import NoiseSource, band_grid, noise_sources, total_psd
-from ..rice import clustered_alarm_rate, poisson_interval, spectral_moment, upcrossing_rate
-from ..synthesis import NoiseSynthesizer, dominant_sources
+from ..logic.rules import PulseLogic
+from ..physics.disturbance import Draught, draught_parts, draught_transfer
+from .rice import clustered_alarm_rate, poisson_interval, spectral_moment, upcrossing_rate
 
 HOUR, DAY, YEAR = 3600.0, 86400.0, 365.25 * 86400.0
 
 
 def comparator_sources(detector, env, draught: Draught | None = None) -> list[NoiseSource]:
     """Noise sources plus the draught (as one shaped source) at the comparator input."""
-    src = noise_sources(detector, env.air_c + 273.15)
+    src = noise_sources(detector, env.air_k)
     if draught is not None and draught.rms > 0:
         diff, common = draught_parts(detector, env, draught)
         level = 4 * draught.rms**2 * draught.correlation_time * (diff + common)
@@ -170,19 +169,17 @@ def monte_carlo_rate(
     keep = dominant_sources(sources, min_share)
     synth = NoiseSynthesizer(keep, sample_rate, streams, seed)
     rest = detector.rest_levels()[-1]
-    logic = detector.logic or PulseLogic()
-    logic = dataclasses.replace(logic, daylight=None)
     per_stream = duration / streams
     n_chunks = max(1, int(math.ceil(per_stream / chunk)))
     n = int(round(per_stream / n_chunks * sample_rate))
     warm = int(min(60.0, per_stream / 10) * sample_rate)
     synth.next(warm)  # start the filters in their stationary state
+    chain = detector.compile(sample_rate, n)
     pulses = alarms = 0
     for c in range(n_chunks):
-        v = rest + synth.next(n)
-        counts, _ = logic_counts(v, sample_rate, detector.comparator, logic)
-        pulses += int(counts[:, 0].sum())
-        alarms += int(counts[:, 2].sum())
+        out = chain.drive("comparator", rest + synth.next(n)).outcomes
+        pulses += int(out.pulses.sum())
+        alarms += int(out.turn_ons.sum())
         if progress is not None:
             progress((c + 1) / n_chunks)
     total = n_chunks * n / sample_rate * streams
@@ -227,12 +224,6 @@ def threshold_for_rate(detector, env, target_rate: float, draught: Draught | Non
 
 
 def sensitivity_resistor_for(detector, threshold: float):
-    """Middle ladder resistor that sets the half-width ``threshold`` [Ω], or None."""
-    win = detector.comparator.window
-    if not isinstance(win, LadderWindow):
-        return None
-    v, rt, rb = win.supply, win.r_top, win.r_bottom
-    # half-width = V R_m / (2 ΣR) → R_m = 2 th (R_t + R_b) / (V − 2 th)
-    if 2 * threshold >= v:
-        return None
-    return 2 * threshold * (rt + rb) / (v - 2 * threshold)
+    """The resistor of the detector's window that sets the half-width ``threshold`` [Ω],
+    or None (a window no resistor sets, or a threshold it cannot reach)."""
+    return detector.comparator.window.resistor_for_threshold(threshold)

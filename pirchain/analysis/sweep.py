@@ -1,11 +1,12 @@
 """Parameter sweeps and the range / false-trigger trade-off.
 
-A :class:`Study` bundles a detector with the scene and analysis settings. Any value in it is
-addressed by a dotted path with list indices, e.g. ``detector.comparator.window.r_middle``
-(the sensitivity resistor of a ladder window), ``detector.follower.source_resistance``,
-``detector.stages[0].c1``, ``detector.stages[1].rf``, ``environment.air_c``, ``speed`` or
-``target`` (a preset name). Each point gives tangential and radial range, the false-trigger
-rate, the power-up settling time and the supply current.
+A sweep varies one value (or a grid of two) of a :class:`pirchain.design.Design`, addressed
+by a dotted path with list indices, e.g. ``detector.comparator.window.r_middle`` (the
+sensitivity resistor of a ladder window), ``detector.follower.source_resistance``,
+``detector.stages[0].c1``, ``detector.stages[1].rf``, ``environment.air_c``, ``speed``,
+``target`` (a preset name) or ``analysis.trials``. Each point gives tangential and radial
+range on the design's sweep bearing (the middle of ``analysis.bearings``), the
+false-trigger rate, the power-up settling time and the supply current.
 """
 
 from __future__ import annotations
@@ -13,61 +14,18 @@ from __future__ import annotations
 import dataclasses
 import itertools
 import re
-from dataclasses import dataclass, field
+import warnings
+from dataclasses import dataclass
 
 import numpy as np
 
-from ..chain import Detector
-from ..disturbance import Draught
 from ..errors import DesignError, ValidityWarning
-from ..scene import Environment, Target, adult, target_preset
+from ..physics.scene import target_preset
 from .detection_range import detection_range
 from .false_triggers import YEAR, analytic_rate
+from .power_up import power_up
 
 _STEP = re.compile(r"^([A-Za-z_][A-Za-z0-9_]*)(?:\[(\d+)\])?$")
-
-
-@dataclass(frozen=True)
-class Study:
-    """What a sweep point evaluates.
-
-    Attributes
-    ----------
-    detector : Detector
-    environment : Environment
-    target : Target
-    speed : float
-        Walking speed [m s⁻¹].
-    bearing_deg : float
-        Bearing of the range walks [°].
-    draught : Draught or None
-        Stationary disturbance for the false-trigger rate.
-    level : float
-        Required P(detect).
-    trials : int
-        Walks per distance.
-    d_max, step : float
-        Range grid [m].
-    seed : int
-    noise : bool
-        Noise in the range walks.
-    settle_duration : float
-        Power-up simulation length [s].
-    """
-
-    detector: Detector
-    environment: Environment = field(default_factory=Environment)
-    target: Target = field(default_factory=adult)
-    speed: float = 1.0
-    bearing_deg: float = 0.0
-    draught: Draught | None = field(default_factory=Draught)
-    level: float = 0.9
-    trials: int = 8
-    d_max: float = 30.0
-    step: float = 1.0
-    seed: int = 0
-    noise: bool = True
-    settle_duration: float = 120.0
 
 
 def get_path(obj, path: str):
@@ -104,26 +62,16 @@ def set_path(obj, path: str, value):
     return dataclasses.replace(obj, **{name: new})
 
 
-def evaluate(study: Study) -> dict:
+def evaluate(design) -> dict:
     """Tangential and radial range, false triggers, settling time and supply current."""
-    det, env, tgt = study.detector, study.environment, study.target
-    kw = dict(
-        speed=study.speed,
-        level=study.level,
-        d_max=study.d_max,
-        step=study.step,
-        trials=study.trials,
-        seed=study.seed,
-        noise=study.noise,
-    )
-    tang = detection_range(det, tgt, env, study.bearing_deg, kind="tangential", **kw)
-    rad = detection_range(det, tgt, env, study.bearing_deg, kind="radial", **kw)
-    est = analytic_rate(det, env, study.draught)
-    import warnings
-
+    det, env, tgt, a = design.detector, design.environment, design.target, design.analysis
+    b = a.sweep_bearing
+    tang = detection_range(det, tgt, env, b, design.speed, "tangential", a)
+    rad = detection_range(det, tgt, env, b, design.speed, "radial", a)
+    est = analytic_rate(det, env, design.draught)
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", ValidityWarning)
-        _, _, settle = det.power_up(study.settle_duration, 50.0)
+        settle = power_up(det, a.settle_duration, a.settle_sample_rate).settling
         supply = det.supply_budget().total
     return {
         "tangential_range_m": tang.range,
@@ -177,19 +125,19 @@ def _fmt(v) -> str:
 
 
 def sweep(
-    study: Study, path: str, values, path2: str | None = None, values2=None, progress=None
+    design, path: str, values, path2: str | None = None, values2=None, progress=None
 ) -> SweepTable:
-    """Evaluate the study at every value of one parameter, or on a grid of two."""
-    get_path(study, path)
+    """Evaluate the design at every value of one parameter, or on a grid of two."""
+    get_path(design, path)
     grid = [(v,) for v in values]
     paths = (path,)
     if path2 is not None:
-        get_path(study, path2)
+        get_path(design, path2)
         grid = list(itertools.product(values, values2))
         paths = (path, path2)
     rows = []
     for i, combo in enumerate(grid):
-        s = study
+        s = design
         for p, v in zip(paths, combo, strict=True):
             s = set_path(s, p, v)
         row = evaluate(s)
@@ -222,11 +170,9 @@ class TradeOff:
         return None if self.best is None else self.table.rows[self.best][self.table.paths[0]]
 
 
-def trade_off(
-    study: Study, path: str, values, budget_per_year: float = 1.0, progress=None
-) -> TradeOff:
+def trade_off(design, path: str, values, budget_per_year: float = 1.0, progress=None) -> TradeOff:
     """Sweep ``path`` and pick the value with the most range within the false-trigger budget."""
-    table = sweep(study, path, values, progress=progress)
+    table = sweep(design, path, values, progress=progress)
     rng = table.column("tangential_range_m")
     ok = table.column("false_triggers_per_year") <= budget_per_year
     best = int(np.flatnonzero(ok)[np.argmax(rng[ok])]) if ok.any() else None
@@ -239,7 +185,6 @@ def log_values(low: float, high: float, n: int) -> list[float]:
 
 
 __all__ = [
-    "Study",
     "SweepTable",
     "TradeOff",
     "evaluate",

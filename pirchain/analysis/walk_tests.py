@@ -1,8 +1,8 @@
 """Walk tests: batches of standard walks through the whole chain, with or without noise.
 
-Protocols follow the published walk tests (REFERENCES.md): the lighting-sensor walk of
-NEMA WD 7-2011 (1.22 m/s, cells of 0.91 m), its minor-motion arm, and the intrusion-detector
-speed set of EN 50131-2-2 (from memory, low confidence: labelled as such). A walk segment of
+Protocols follow the published walk tests (docs/validation.md lists them): the
+lighting-sensor walk of NEMA WD 7-2011 (1.22 m/s, cells of 0.91 m), its minor-motion arm,
+and the intrusion-detector speed set of EN 50131-2-2 (from memory, low confidence: labelled as such). A walk segment of
 3 m is used for a detection verdict (EN 50131-2-2 asks for detection within about 3 m of
 walking; from memory). The probability of detection is estimated over random start
 positions relative to the beams (the walk is shifted along itself by up to one beam pitch)
@@ -16,10 +16,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..chain import Detector
+from ..chain.detector import Detector
+from ..circuit.synthesis import NoiseSynthesizer, dominant_sources
 from ..errors import DesignError, check_positive
-from ..scene import Environment, Target, straight_walks
-from ..synthesis import NoiseSynthesizer, dominant_sources
+from ..physics.scene import Environment, Target, straight_walks
 
 
 @dataclass(frozen=True)

@@ -1,0 +1,186 @@
+"""The one object that wires the stages of a detector together.
+
+``Detector`` holds the frozen parameter objects of every stage; it answers the static
+questions of a design (beams, rest levels, window, transfer function, supply budget) and
+hands every time-domain run to the one engine (:mod:`pirchain.chain.engine`), which it
+compiles for a sample rate and walk length with :meth:`Detector.compile`.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import control
+import numpy as np
+
+from ..circuit.comparator import WindowComparator
+from ..circuit.follower import SourceFollower
+from ..circuit.stage import chain_transfer_function
+from ..circuit.supply import PowerSupply, SupplyBudget, supply_budget
+from ..errors import DesignError, warn_validity
+from ..logic.rules import PulseLogic
+from ..physics.optics import Beams, Lens, Mount, make_beams
+from ..physics.sensor import PyroSensor
+from .engine import TAPS, ChainRun, CompiledChain, WalkOutcomes, compile_chain
+
+
+@dataclass(frozen=True)
+class Detector:
+    """A PIR detector design: lens, mounting, sensor, front end, comparator and logic.
+
+    Attributes
+    ----------
+    lens : Lens
+    mount : Mount
+    sensor : PyroSensor
+    follower : SourceFollower or None
+    stages : tuple of Stage
+        Op-amp and passive stages in signal order.
+    comparator : WindowComparator or None
+    logic : PulseLogic or None
+        None: the defaults of :class:`PulseLogic`.
+    supply : PowerSupply or None
+    name : str
+    """
+
+    lens: Lens
+    mount: Mount
+    sensor: PyroSensor
+    follower: SourceFollower | None = None
+    stages: tuple = ()
+    comparator: WindowComparator | None = None
+    logic: PulseLogic | None = None
+    supply: PowerSupply | None = None
+    name: str = "detector"
+
+    def __post_init__(self):
+        object.__setattr__(self, "stages", tuple(self.stages))
+        if self.supply is not None and self.follower is not None:
+            need = self.follower.minimum_drain_voltage()
+            if self.supply.voltage < need:
+                raise DesignError(
+                    "supply.voltage",
+                    self.supply.voltage,
+                    f"at least {need:.3g} V to keep the JFET saturated",
+                )
+
+    # -- static answers -------------------------------------------------------------------
+    def beams(self) -> Beams:
+        """Beams of this lens, mounting and sensor in the room frame."""
+        return make_beams(self.lens, self.mount, self.sensor.elements)
+
+    def require_analog(self) -> None:
+        """Raise a :class:`DesignError` unless the design has a follower and stages."""
+        if self.follower is None or not self.stages:
+            raise DesignError(
+                "design.stages",
+                self.stages,
+                "a source follower and at least one stage for this analysis",
+            )
+
+    def rest_levels(self) -> list[float]:
+        """Quiescent DC level at the source and after every stage [V]."""
+        self.require_analog()
+        levels = [self.follower.offset]
+        for st in self.stages:
+            levels.append(st.output_dc(levels[-1]))
+        return levels
+
+    def window(self) -> tuple[float, float]:
+        """Comparator window (v_lo, v_hi) [V]; warns if the rest level is not inside."""
+        if self.comparator is None:
+            raise DesignError("design.comparator", None, "a window comparator for this analysis")
+        lo, hi = self.comparator.edges()
+        if self.stages and self.follower is not None:
+            rest = self.rest_levels()[-1]
+            if not lo < rest < hi:
+                warn_validity(
+                    f"the comparator input rests at {rest:.3g} V, outside the window "
+                    f"[{lo:.3g}, {hi:.3g}] V: the output would fire for ever"
+                )
+        return lo, hi
+
+    def transfer_function(self, gbw: bool = True) -> control.TransferFunction:
+        """Comparator-input change per equivalent element power, V/W (python-control)."""
+        self.require_analog()
+        return (
+            self.sensor.transfer_function()
+            * self.follower.gain
+            * chain_transfer_function(self.stages, gbw)
+        )
+
+    def supply_budget(self) -> SupplyBudget:
+        """Supply current of every part and the total."""
+        self.require_analog()
+        return supply_budget(
+            self.supply or PowerSupply(), self.follower, self.stages, self.comparator, self.logic
+        )
+
+    # -- the engine -----------------------------------------------------------------------
+    def compile(self, sample_rate: float, n_samples: int) -> CompiledChain:
+        """This design's tables for walks of ``n_samples`` at ``sample_rate`` [Hz] (cached)."""
+        return compile_chain(self, float(sample_rate), int(n_samples))
+
+    def run(self, target, env, walks, taps=(), lux=None, extra=None) -> ChainRun:
+        """Run a batch of walks through the whole chain, keeping the nodes in ``taps``.
+
+        Parameters
+        ----------
+        target : Target
+        env : Environment
+        walks : Walks
+        taps : sequence of str
+            Nodes whose waveforms to keep (:data:`pirchain.chain.engine.TAPS`).
+        lux : float or array_like, optional
+            Illuminance for the daylight inhibit (scalar, (ticks,) or (walks, ticks)) [lux].
+        extra : numpy.ndarray, optional
+            Voltage added at the comparator input, shape (walks, samples) [V] (noise).
+
+        Returns
+        -------
+        ChainRun
+        """
+        self.check_sampling(walks)
+        self.window()  # warns if the rest level is outside the window
+        chain = self.compile(walks.sample_rate, walks.n_samples)
+        return chain.walk(target, env, walks, taps, lux, extra)
+
+    def simulate(self, target, env, walks, lux=None, extra=None) -> ChainRun:
+        """:meth:`run` keeping every node's waveform and every event."""
+        return self.run(target, env, walks, TAPS, lux, extra)
+
+    def outcomes(self, target, env, walks, lux=None, extra=None) -> WalkOutcomes:
+        """:meth:`run` keeping only the per-walk outcomes (what range and coverage use)."""
+        return self.run(target, env, walks, (), lux, extra).outcomes
+
+    def drive(self, node, signal, sample_rate, taps=(), lux=None, extra=None, start="steady"):
+        """Drive a signal (walks, samples) in at ``node`` and run the rest of the chain.
+
+        See :meth:`pirchain.chain.engine.CompiledChain.drive`; ``sample_rate`` [Hz].
+        """
+        self.window()
+        sig = np.atleast_2d(np.asarray(signal, dtype=float))
+        chain = self.compile(sample_rate, sig.shape[-1])
+        return chain.drive(node, sig, taps, lux, extra, start)
+
+    def check_sampling(self, walks) -> None:
+        """Warn when the fastest beam crossing comes near the sample rate."""
+        if walks.n_samples < 2 or walks.n_walks == 0 or walks.sample_rate <= 0:
+            return
+        k = max(1, walks.n_samples // 100)  # a speed estimate needs no more than ~100 points
+        pos = walks.position[:, ::k]
+        step = np.hypot(*np.moveaxis(np.diff(pos, axis=1), -1, 0)) if pos.shape[1] > 1 else 0
+        v_max = float(np.max(step)) * walks.sample_rate / k
+        rho = float(np.hypot(pos[..., 0], pos[..., 1]).min())
+        if v_max == 0:
+            return
+        xs = np.array([e.x for e in self.sensor.elements])
+        spacing = float(np.ptp(xs)) or self.sensor.elements[0].width
+        focal = max(f.focal_length for f in self.lens.facets)
+        f_cross = v_max * focal / (2 * max(rho, 0.3) * spacing)
+        if f_cross > walks.sample_rate / 10:
+            warn_validity(
+                f"beam crossings reach {f_cross:.3g} Hz, above a tenth of the "
+                f"{walks.sample_rate:g} Hz sample rate: raise the sample rate for "
+                "accurate waveforms"
+            )

@@ -1,0 +1,379 @@
+"""The one engine: a detector compiled for a sample rate and walk length, and its runs.
+
+:func:`compile_chain` builds the detector's named tables once (cached);
+:meth:`CompiledChain.walk` runs a batch of walks from the scene, :meth:`CompiledChain.drive`
+runs a signal driven in at a node (the equivalent gate power, the gate, or the comparator
+input). Either way the same compiled pass (:func:`pirchain.kernels.chain.run_batch`) runs
+the whole chain; ``taps`` says which nodes' waveforms to keep:
+
+``element_power``  power on each element (walks, samples, elements) [W]
+``equivalent_power``  Σ c_k P_k (walks, samples) [W]
+``gate``  gate-voltage change (walks, samples) [V]
+``source``  JFET source (walks, samples) [V]
+``stages``  every stage's output and where its op-amp sits at a rail
+``comparator``  comparator input, added noise included (walks, samples) [V]
+``events``  every pulse and output on-interval
+"""
+
+from __future__ import annotations
+
+import functools
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..errors import DesignError
+from ..logic.rules import Decision, PulseLogic, Pulses
+from . import tables as tb
+
+TAPS = ("element_power", "equivalent_power", "gate", "source", "stages", "comparator", "events")
+#: Where a driven signal may enter, and the first node it reaches.
+DRIVE_NODES = {"equivalent_power": 1, "gate": 2, "comparator": 3}
+_FIRST_TAP = {0: 0, 1: 1, 2: 2, 3: 5}  # start node → index in TAPS of the first tap it has
+
+
+@dataclass(frozen=True)
+class WalkOutcomes:
+    """Per-walk outcomes of a batch.
+
+    Attributes
+    ----------
+    detected : numpy.ndarray of bool
+        The output turned on.
+    first_on : numpy.ndarray
+        First turn-on time [s], NaN where never.
+    pulses, triggers, turn_ons : numpy.ndarray of int
+        Pulses outside the window, rule firings (retriggers included), output turn-ons.
+    peak : numpy.ndarray
+        Largest |comparator input − rest level| [V] (added noise included).
+    """
+
+    detected: np.ndarray
+    first_on: np.ndarray
+    pulses: np.ndarray
+    triggers: np.ndarray
+    turn_ons: np.ndarray
+    peak: np.ndarray
+
+
+@dataclass(frozen=True)
+class ChainRun:
+    """What a run produced: per-walk outcomes, and the waveforms and events it tapped
+    (None where not tapped).
+
+    Attributes
+    ----------
+    time : numpy.ndarray
+        Sample times (samples,) [s].
+    sample_rate : float
+        [Hz].
+    window : tuple of float
+        Comparator window (v_lo, v_hi) [V].
+    outcomes : WalkOutcomes
+    element_power : numpy.ndarray or None
+        (walks, samples, elements) [W].
+    equivalent_power : numpy.ndarray or None
+        Σ c_k P_k (walks, samples) [W].
+    gate_voltage : numpy.ndarray or None
+        Gate-voltage change (walks, samples) [V].
+    source_voltage : numpy.ndarray or None
+        JFET source (walks, samples) [V].
+    stage_outputs : tuple of numpy.ndarray or None
+        Every stage's output (walks, samples) [V].
+    pinned : tuple of numpy.ndarray or None
+        Where each stage's op-amp sits at a rail (walks, samples) bool.
+    comparator_input : numpy.ndarray or None
+        (walks, samples) [V].
+    pulses : Pulses or None
+        Every pulse, flattened over walks.
+    decisions : list of Decision or None
+        Triggers, on-intervals and counted pulses of each walk.
+    """
+
+    time: np.ndarray
+    sample_rate: float
+    window: tuple[float, float]
+    outcomes: WalkOutcomes
+    element_power: np.ndarray | None = None
+    equivalent_power: np.ndarray | None = None
+    gate_voltage: np.ndarray | None = None
+    source_voltage: np.ndarray | None = None
+    stage_outputs: tuple | None = None
+    pinned: tuple | None = None
+    comparator_input: np.ndarray | None = None
+    pulses: Pulses | None = None
+    decisions: list | None = None
+
+    @property
+    def detected(self) -> np.ndarray:
+        """Whether each walk turned the output on, shape (walks,)."""
+        return self.outcomes.detected
+
+
+@dataclass(frozen=True, eq=False)
+class CompiledChain:
+    """A detector's tables for one sample rate and walk length (see :func:`compile_chain`).
+
+    Attributes
+    ----------
+    detector : Detector
+    sample_rate : float
+        [Hz].
+    n_samples : int
+        Samples per walk.
+    time : numpy.ndarray
+        Sample times [s].
+    optics_summed, optics_per_element : OpticsTable
+        Beams summed straight into Σ c_k P_k, or kept per element.
+    sensor : SensorTable
+    follower : FollowerTable
+    stages : StageTable
+    logic : LogicTable
+    rest : float
+        Comparator input at rest [V].
+    window : tuple of float
+        (v_lo, v_hi) [V].
+    """
+
+    detector: object
+    sample_rate: float
+    n_samples: int
+    time: np.ndarray
+    optics_summed: tb.OpticsTable
+    optics_per_element: tb.OpticsTable
+    sensor: tb.SensorTable
+    follower: tb.FollowerTable
+    stages: tb.StageTable
+    logic: tb.LogicTable
+    rest: float
+    window: tuple[float, float]
+
+    def walk(self, target, environment, walks, taps=(), lux=None, extra=None) -> ChainRun:
+        """Run a batch of walks from the scene through the chain.
+
+        Parameters
+        ----------
+        target : Target
+        environment : Environment
+        walks : Walks
+            Sampled at this chain's sample rate and length.
+        taps : sequence of str
+            Nodes whose waveforms to keep (module docstring); default: outcomes only.
+        lux : float or array_like, optional
+            Illuminance for the daylight inhibit: a scalar, per tick (ticks,) or per walk
+            and tick (walks, ticks) [lux].
+        extra : numpy.ndarray, optional
+            Voltage added at the comparator input (walks, samples) [V] (noise).
+        """
+        if walks.n_samples != self.n_samples or walks.sample_rate != self.sample_rate:
+            raise DesignError(
+                "walks", (walks.n_samples, walks.sample_rate),
+                f"{self.n_samples} samples at {self.sample_rate:g} Hz (the compiled chain's)",
+            )  # fmt: skip
+        det = self.detector
+        contrast = target.radiance_contrast(environment, det.sensor.band)
+        parts = tb.part_table(target, contrast, walks.time)
+        return self._run(0, walks.n_walks, tb.walk_table(walks), parts, None, taps, lux, extra)
+
+    def drive(self, node: str, signal, taps=(), lux=None, extra=None, start="steady"):
+        """Run a signal driven in at ``node`` through the rest of the chain.
+
+        Parameters
+        ----------
+        node : {"equivalent_power", "gate", "comparator"}
+            Where the signal enters: Σ c_k P_k [W] (the sensor responds to its change from
+            the first sample), the gate-voltage change [V], or the comparator input [V].
+        signal : array_like, shape (walks, samples)
+            The input.
+        start : {"steady", "discharged"}
+            Every stage in steady state with its first input, or every capacitor
+            discharged (the supply switching on at t = 0).
+        """
+        if node not in DRIVE_NODES:
+            raise DesignError("node", node, "one of " + ", ".join(DRIVE_NODES))
+        if start not in ("steady", "discharged"):
+            raise DesignError("start", start, "'steady' or 'discharged'")
+        sig = _finite_batch("signal", signal, self.n_samples)
+        return self._run(
+            DRIVE_NODES[node], sig.shape[0], None, None, (sig, start == "discharged"), taps,
+            lux, extra,
+        )  # fmt: skip
+
+    def _run(self, start, n_w, walks, parts, drive, taps, lux, extra) -> ChainRun:
+        taps = _check_taps(taps, start)
+        n_t = self.n_samples
+        sig, discharged = drive if drive is not None else (np.zeros((0, 0)), False)
+        if extra is None:
+            extra = np.zeros((n_w, 0))
+        else:
+            extra = _finite_batch("extra", extra, n_t)
+            if extra.shape[0] != n_w:
+                raise DesignError("extra", extra.shape, f"finite values of shape ({n_w}, {n_t})")
+        dt = tb.DriveTable(int(start), tb._f(sig), tb._f(extra), bool(discharged),
+                           self._daylight(lux, n_w))  # fmt: skip
+        per_element = "element_power" in taps
+        optics = self.optics_per_element if per_element else self.optics_summed
+        arrays = self._tap_arrays(taps, n_w)
+        out = tb.OutcomeArrays(
+            np.zeros((n_w, 3), dtype=np.int64), np.zeros(n_w), np.zeros(n_w), float(self.rest),
+            int(n_t),
+        )  # fmt: skip
+        if walks is None:
+            walks = tb.WalkTable(np.zeros((0, 0, 2)), np.zeros((0, 0, 2)))
+        if parts is None:
+            parts = tb.part_table(_NO_TARGET, np.zeros(0), np.zeros(0))
+        from ..kernels.chain import run_batch
+
+        run_batch(walks, parts, optics, self.sensor, self.follower, self.stages, self.logic,
+                  dt, arrays, out)  # fmt: skip
+        return self._result(taps, arrays, out)
+
+    def _daylight(self, lux, n_w):
+        day = (self.detector.logic or PulseLogic()).daylight
+        n_k = self.logic.tick_time.size
+        if day is None or lux is None:
+            return np.zeros((0, 1))
+        try:
+            lx = np.asarray(lux, dtype=float)
+            rows = n_w if lx.ndim == 2 else 1
+            lx = np.broadcast_to(lx, (rows, n_k))
+        except (TypeError, ValueError):
+            raise DesignError(
+                "lux", np.shape(lux), f"a scalar, ({n_k},) or ({n_w}, {n_k}) illuminances"
+            ) from None
+        if not np.all(np.isfinite(lx)) or np.any(lx < 0):
+            raise DesignError("lux", "values", "finite illuminances >= 0 lux")
+        return tb._f(day.node_voltage(lx))
+
+    def _tap_arrays(self, taps, n_w):
+        n_t, det = self.n_samples, self.detector
+        n_el, n_st = len(det.sensor.elements), len(det.stages)
+        cap = self.logic.tick_time.size + 1 if "events" in taps else 0
+
+        def wave(name, *shape):
+            return np.zeros(shape if name in taps else (0,) * len(shape))
+
+        return tb.TapArrays(
+            wave("element_power", n_w, n_t, n_el),
+            wave("equivalent_power", n_w, n_t),
+            wave("gate", n_w, n_t),
+            wave("source", n_w, n_t),
+            wave("stages", n_st, n_w, n_t),
+            wave("stages", n_st, n_w, n_t).astype(np.bool_),
+            wave("comparator", n_w, n_t),
+            np.zeros((n_w, cap)),
+            np.zeros((n_w, cap)),
+            np.zeros((n_w, cap), dtype=np.int8),
+            np.zeros((n_w, cap)),
+            np.zeros((n_w, cap), dtype=np.bool_),
+            np.zeros((n_w, cap), dtype=np.bool_),
+            np.zeros((n_w, cap)),
+            np.zeros((n_w, cap)),
+        )
+
+    def _result(self, taps, a: tb.TapArrays, out: tb.OutcomeArrays) -> ChainRun:
+        counts = out.counts
+        oc = WalkOutcomes(
+            counts[:, 2] > 0, out.first_on, counts[:, 0], counts[:, 1], counts[:, 2], out.peak
+        )
+
+        def get(name, arr):
+            return arr if name in taps else None
+
+        pulses = decisions = None
+        if "events" in taps:
+            pulses, decisions = _events(a, counts)
+        return ChainRun(
+            self.time, self.sample_rate, self.window, oc,
+            get("element_power", a.element_power),
+            get("equivalent_power", a.equivalent_power),
+            get("gate", a.gate),
+            get("source", a.source),
+            tuple(a.stages) if "stages" in taps else None,
+            tuple(a.pinned) if "stages" in taps else None,
+            get("comparator", a.comparator),
+            pulses,
+            decisions,
+        )  # fmt: skip
+
+
+def _events(a: tb.TapArrays, counts):
+    """Pulses and decisions from the event records."""
+    n_w = counts.shape[0]
+    n_p, n_on = counts[:, 0], counts[:, 2]
+    keep = np.arange(a.pulse_start.shape[1])[None, :] < n_p[:, None]
+    walk = np.broadcast_to(np.arange(n_w)[:, None], keep.shape)[keep]
+    pulses = Pulses(
+        walk, a.pulse_start[keep], a.pulse_end[keep], a.pulse_sign[keep].astype(int),
+        a.pulse_peak[keep], a.pulse_counted[keep], a.pulse_fired[keep],
+    )  # fmt: skip
+    bounds = np.concatenate([[0], np.cumsum(n_p)])
+    decisions = []
+    for w in range(n_w):
+        mine = pulses.slice(bounds[w], bounds[w + 1])
+        on = [(float(s), float(e)) for s, e in zip(a.on_start[w, : n_on[w]],
+                                                   a.on_end[w, : n_on[w]], strict=True)]  # fmt: skip
+        decisions.append(Decision(mine.start[mine.fired], on, mine.start[mine.counted]))
+    return pulses, decisions
+
+
+def _check_taps(taps, start):
+    if isinstance(taps, str):
+        taps = (taps,)
+    taps = tuple(taps)
+    for t in taps:
+        if t not in TAPS:
+            raise DesignError("taps", t, "one of " + ", ".join(TAPS))
+        if TAPS.index(t) < _FIRST_TAP[start] and t != "events":
+            raise DesignError("taps", t, "a node at or after the one the signal is driven into")
+    return frozenset(taps)
+
+
+def _finite_batch(name, x, n_t):
+    try:
+        arr = np.asarray(x, dtype=float)
+    except (TypeError, ValueError):
+        raise DesignError(name, type(x).__name__, "an array of numbers") from None
+    if arr.ndim != 2 or arr.shape[1] != n_t or not np.all(np.isfinite(arr)):
+        raise DesignError(name, arr.shape, f"finite values of shape (walks, {n_t})")
+    return np.ascontiguousarray(arr)
+
+
+class _NoTarget:
+    parts = ()
+    swing = None
+
+
+_NO_TARGET = _NoTarget()
+
+
+@functools.lru_cache(maxsize=32)
+def compile_chain(detector, sample_rate: float, n_samples: int) -> CompiledChain:
+    """The detector's tables for walks of ``n_samples`` at ``sample_rate`` (cached).
+
+    Raises
+    ------
+    DesignError
+        If the detector lacks a follower, stages or a comparator.
+    """
+    detector.require_analog()
+    if detector.comparator is None:
+        raise DesignError("design.comparator", None, "a window comparator for this analysis")
+    fs = float(sample_rate)
+    n = int(n_samples)
+    if n < 1:
+        raise DesignError("samples", n, "at least one sample per walk")
+    beams = detector.beams()
+    sensor = detector.sensor
+    h = detector.mount.height
+    return CompiledChain(
+        detector, fs, n, np.arange(n) / fs,
+        tb.optics_table(beams, sensor, h, False),
+        tb.optics_table(beams, sensor, h, True),
+        tb.sensor_table(sensor, fs),
+        tb.follower_table(detector.follower),
+        tb.stage_table(detector.stages, fs),
+        tb.logic_table(detector.comparator, detector.logic or PulseLogic(), n, fs),
+        float(detector.rest_levels()[-1]),
+        detector.comparator.edges(),
+    )  # fmt: skip

@@ -1,0 +1,206 @@
+"""SPICE netlist export of the analog chain, and a runner for ngspice.
+
+The netlist holds the sensor as the equivalent pyroelectric current (a PWL source) into
+R_G ∥ C_gate, the JFET follower (square-law NJF model with the same I_DSS and V_P), and each stage as its
+own class writes it (:meth:`pirchain.circuit.stage.Stage.netlist_lines`), with op-amp
+macromodels from :class:`NetlistWriter`. The reference voltages are ideal sources, as in the
+model.
+
+References
+----------
+.. [1] Nagel, L. W., SPICE2 (1975); the ngspice manual (element syntax, B sources, PWL).
+"""
+
+from __future__ import annotations
+
+import math
+import os
+import shutil
+import subprocess
+import tempfile
+
+import numpy as np
+
+from ..errors import PirchainError
+
+
+def _g(x: float) -> str:
+    return f"{x:.10g}"
+
+
+class NetlistWriter:
+    """What a stage needs to write its netlist lines: reference nodes (one ideal source per
+    distinct voltage), op-amp macromodels and number formatting."""
+
+    def __init__(self):
+        self.refs: dict[float, str] = {}
+        self.subckts: dict[str, str] = {}
+
+    num = staticmethod(_g)
+
+    def reference(self, v: float) -> str:
+        """Node of an ideal reference source at ``v`` [V] (ground for 0 V)."""
+        if v == 0.0:
+            return "0"
+        if v not in self.refs:
+            self.refs[v] = f"ref{len(self.refs) + 1}"
+        return self.refs[v]
+
+    def opamp(self, index: int, amp) -> str:
+        """Name of the op-amp macromodel of stage ``index`` (added to the netlist).
+
+        A transconductor into R ∥ C gives the open-loop gain A0 and the gain-bandwidth;
+        diodes clamp that node near the rails against wind-up, and a behavioural buffer
+        limits the output exactly to the rails.
+        """
+        name = f"OPAMP{index}"
+        gm = 1e-3
+        self.subckts[name] = "\n".join(
+            [
+                f".subckt {name} inp inn out",
+                f"G1 0 x inp inn {_g(gm)}",
+                f"RX x 0 {_g(amp.open_loop_gain / gm)}",
+                f"CX x 0 {_g(gm / (2 * math.pi * amp.gbw))}",
+                f"VHI hi 0 {_g(amp.v_high)}",
+                f"VLO lo 0 {_g(amp.v_low)}",
+                "DHI x hi DCLAMP",
+                "DLO lo x DCLAMP",
+                f"BOUT out 0 V = max(min(V(x), {_g(amp.v_high)}), {_g(amp.v_low)})",
+                ".model DCLAMP D(IS=1e-15 N=0.05)",
+                ".ends",
+            ]
+        )
+        return name
+
+    def reference_lines(self) -> list[str]:
+        """The reference sources."""
+        return [f"V{n.upper()} {n} 0 DC {_g(v)}" for v, n in self.refs.items()]
+
+
+def stage_nodes(detector) -> list[str]:
+    """SPICE node names: gate, source, then every stage output."""
+    return ["gate", "src"] + [f"out{k}" for k in range(1, len(detector.stages) + 1)]
+
+
+def netlist(
+    detector,
+    current=None,
+    sample_rate: float = 100.0,
+    duration: float | None = None,
+    power_up: bool = False,
+    output_file: str | None = None,
+) -> str:
+    """SPICE netlist of the analog chain of ``detector``.
+
+    Parameters
+    ----------
+    detector : Detector
+        Needs a sensor, a follower, stages and a supply (or the default 3.3 V).
+    current : array_like, optional
+        Equivalent pyroelectric current into the gate node at ``sample_rate`` [A]
+        (:func:`pirchain.physics.sensor.gate_current`); default: none (power-up or AC use).
+    duration : float, optional
+        Transient length [s]; default: the current's length.
+    power_up : bool
+        Start the transient with every capacitor discharged (``uic``) instead of from the
+        operating point.
+    output_file : str, optional
+        If given, a ``.control`` block writes the node voltages to this file.
+    """
+    detector.require_analog()
+    s, fol = detector.sensor, detector.follower
+    vdd = detector.supply.voltage if detector.supply is not None else 3.3
+    writer = NetlistWriter()
+    lines = [
+        f"* pirchain netlist: {detector.name}",
+        "* sensor as the equivalent pyroelectric current into R_G || C_gate",
+        f"VDD vdd 0 DC {_g(vdd)}",
+        "* pyroelectric currents are sub-pA: tighten the current tolerance and keep the",
+        "* junction shunt conductance from biasing the 10 GΩ-class gate node",
+        ".options abstol=1e-16 gmin=1e-20 reltol=1e-5",
+    ]
+    if current is not None:
+        i = np.asarray(current, dtype=float).ravel()
+        t = np.arange(i.size) / sample_rate
+        pts = " ".join(f"{_g(a)} {_g(b)}" for a, b in zip(t, i, strict=True))
+        lines.append(f"IPYRO 0 gate PWL({pts})")
+        duration = duration if duration is not None else (i.size - 1) / sample_rate
+    lines += [
+        f"RG gate 0 {_g(s.gate_resistance)}",
+        f"CG gate 0 {_g(s.gate_capacitance)}",
+        "* JFET source follower (square law; gate diode negligible)",
+        "J1 vdd gate src JF1",
+        f"RS src 0 {_g(fol.source_resistance)}",
+        f".model JF1 NJF(VTO={_g(-fol.jfet.pinch_off)} "
+        f"BETA={_g(fol.jfet.idss / fol.jfet.pinch_off**2)} LAMBDA=0 IS=1e-20)",
+    ]
+    node = "src"
+    for k, st in enumerate(detector.stages, start=1):
+        out = f"out{k}"
+        lines += st.netlist_lines(k, node, out, writer)
+        node = out
+    lines += writer.reference_lines()
+    lines += list(writer.subckts.values())
+    if duration is not None:
+        step = 1.0 / sample_rate
+        lines.append(
+            f".tran {_g(step)} {_g(duration)} 0 {_g(step / 4)}" + (" uic" if power_up else "")
+        )
+    if output_file is not None:
+        vecs = " ".join(f"v({n})" for n in stage_nodes(detector))
+        lines += [
+            ".control",
+            "set wr_singlescale",
+            "set wr_vecnames",
+            "run",
+            f"linearize {vecs}",
+            f"wrdata {output_file} {vecs}",
+            "quit",
+            ".endc",
+        ]
+    lines.append(".end")
+    return "\n".join(lines) + "\n"
+
+
+def ngspice_available() -> bool:
+    """True if an ``ngspice`` executable is on the PATH."""
+    return shutil.which("ngspice") is not None
+
+
+def run_ngspice(
+    detector,
+    current=None,
+    sample_rate: float = 100.0,
+    duration=None,
+    power_up: bool = False,
+    timeout: float = 600.0,
+):
+    """Run the exported netlist in ngspice (batch mode) and read the node voltages back.
+
+    Returns
+    -------
+    time : numpy.ndarray
+        [s], uniform at ``1/sample_rate``.
+    voltages : dict of str to numpy.ndarray
+        Node name → voltage [V] (``gate``, ``src``, ``out1`` …).
+    """
+    if not ngspice_available():
+        raise PirchainError("ngspice is not installed (Debian: apt-get install ngspice)")
+    with tempfile.TemporaryDirectory() as tmp:
+        out = os.path.join(tmp, "result.txt")
+        cir = os.path.join(tmp, "chain.cir")
+        with open(cir, "w", encoding="utf-8") as fh:
+            fh.write(netlist(detector, current, sample_rate, duration, power_up, out))
+        proc = subprocess.run(
+            ["ngspice", "-n", cir],
+            capture_output=True,
+            text=True,
+            timeout=timeout,
+            check=False,
+            stdin=subprocess.DEVNULL,
+        )
+        if proc.returncode != 0 or not os.path.exists(out):
+            raise PirchainError("ngspice failed: " + (proc.stderr or proc.stdout)[-2000:])
+        data = np.loadtxt(out, skiprows=1)
+    names = stage_nodes(detector)
+    return data[:, 0], {n: data[:, k + 1] for k, n in enumerate(names)}

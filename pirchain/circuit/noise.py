@@ -1,0 +1,221 @@
+"""Noise budget: every source as a PSD referred to the comparator input.
+
+Each source is a white spectral density S0 (times f for dielectric loss) shaped by the
+transfer function from where it enters to the comparator input, built with python-control
+(op-amp gain-bandwidth included). One-sided PSDs throughout [unit² Hz⁻¹].
+
+Sources: Johnson noise of the gate resistor (a current 4kT/R_G into R_G ∥ C_gate);
+dielectric-loss noise of the elements (a current 4kT ω C tan δ, so ≈ 4kT tan δ/(ωC) in
+voltage where ωC dominates); JFET gate current noise i_n (into the gate node) and voltage
+noise e_n (at the gate); the source resistor (a current 4kT/R_S into R_S ∥ 1/g_m);
+temperature-fluctuation noise of each element (power 4kT²G); and each stage's own sources,
+which the stage class states (:meth:`pirchain.circuit.stage.Stage.noise_sources`).
+
+References
+----------
+.. [1] Whatmore, R. W., Rep. Prog. Phys. 49, 1335 (1986); Porter, S. G., Ferroelectrics 33,
+   193 (1981): pyroelectric detector noise sources, NEP and D*.
+.. [2] Motchenbacher, C. D. and Connelly, J. A., *Low-Noise Electronic System Design* (1993):
+   op-amp and resistor noise referred through the noise gain.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import control
+import numpy as np
+from scipy import constants
+
+from .stage import chain_transfer_function
+
+K_B = constants.k
+
+
+@dataclass(frozen=True)
+class NoiseSource:
+    """One noise source referred to the comparator input.
+
+    Attributes
+    ----------
+    name : str
+        Label.
+    level : float
+        White spectral density S0 of the source where it enters [A² Hz⁻¹, V² Hz⁻¹ or W² Hz⁻¹].
+    transfer : control.TransferFunction
+        From the source to the comparator input.
+    rising : bool
+        The source density is S0 · f (dielectric loss), not S0.
+    """
+
+    name: str
+    level: float
+    transfer: control.TransferFunction
+    rising: bool = False
+
+    def psd(self, f) -> np.ndarray:
+        """PSD at the comparator input [V² Hz⁻¹]."""
+        f = np.asarray(f, dtype=float)
+        h = np.abs(self.transfer(2j * math.pi * f)) ** 2
+        return self.level * h * (f if self.rising else 1.0)
+
+
+def _tf(x) -> control.TransferFunction:
+    return x if isinstance(x, control.TransferFunction) else control.tf([float(x)], [1.0])
+
+
+def noise_sources(detector, temperature: float = 295.15) -> list[NoiseSource]:
+    """Every noise source of ``detector`` referred to its comparator input.
+
+    Parameters
+    ----------
+    detector : Detector
+        With sensor, follower and stages.
+    temperature : float
+        Temperature of the electronics [K].
+    """
+    detector.require_analog()
+    s, fol, stages = detector.sensor, detector.follower, detector.stages
+    kt4 = 4 * K_B * temperature
+    z_gate = control.tf([s.gate_resistance], [s.electrical_time_constant, 1.0])
+    after_source = chain_transfer_function(stages, gbw=True)
+    after_gate = fol.gain * after_source
+    c_el = s.gate_capacitance - s.input_capacitance
+    out = [
+        NoiseSource("gate resistor R_G (Johnson)", kt4 / s.gate_resistance, z_gate * after_gate),
+        NoiseSource(
+            "element dielectric loss (tan δ)",
+            kt4 * 2 * math.pi * c_el * s.loss_tangent,
+            z_gate * after_gate,
+            rising=True,
+        ),
+    ]
+    if fol.jfet.i_n > 0:
+        out.append(NoiseSource("JFET i_n", fol.jfet.i_n**2, z_gate * after_gate))
+    if fol.jfet.e_n > 0:
+        out.append(NoiseSource("JFET e_n", fol.jfet.e_n**2, after_gate))
+    out.append(
+        NoiseSource(
+            "source resistor R_S (Johnson)",
+            kt4 / fol.source_resistance,
+            fol.output_impedance * after_source,
+        )
+    )
+    if s.heat_capacity is not None:
+        g = s.heat_capacity / s.thermal_time_constant
+        out.append(
+            NoiseSource(
+                "temperature fluctuation",
+                4 * K_B * temperature**2 * g * float(np.sum(s.coupling**2)),
+                s.transfer_function() * after_gate,
+            )
+        )
+    for k, st in enumerate(stages, start=1):
+        downstream = chain_transfer_function(stages[k:], gbw=True)
+        out += st.noise_sources(k, temperature, downstream)
+    return out
+
+
+def sensor_sources(detector, temperature: float = 295.15) -> list[NoiseSource]:
+    """The sensor's own sources (and the JFET) referred to the gate node [V² Hz⁻¹]."""
+    s, fol = detector.sensor, detector.follower
+    kt4 = 4 * K_B * temperature
+    z_gate = control.tf([s.gate_resistance], [s.electrical_time_constant, 1.0])
+    c_el = s.gate_capacitance - s.input_capacitance
+    out = [
+        NoiseSource("gate resistor R_G (Johnson)", kt4 / s.gate_resistance, z_gate),
+        NoiseSource(
+            "element dielectric loss (tan δ)",
+            kt4 * 2 * math.pi * c_el * s.loss_tangent,
+            z_gate,
+            rising=True,
+        ),
+    ]
+    if fol is not None:
+        out += [
+            NoiseSource("JFET i_n", fol.jfet.i_n**2, z_gate),
+            NoiseSource("JFET e_n", fol.jfet.e_n**2, _tf(1.0)),
+        ]
+    if s.heat_capacity is not None:
+        g = s.heat_capacity / s.thermal_time_constant
+        out.append(
+            NoiseSource(
+                "temperature fluctuation",
+                4 * K_B * temperature**2 * g * float(np.sum(s.coupling**2)),
+                s.transfer_function(),
+            )
+        )
+    return out
+
+
+def band_grid(f_lo: float = 1e-3, f_hi: float = 1e3, n: int = 4000) -> np.ndarray:
+    """Log-spaced frequency grid for band integrals [Hz]."""
+    return np.geomspace(f_lo, f_hi, n)
+
+
+def band_variance(f: np.ndarray, psd: np.ndarray) -> float:
+    """∫ S df by the trapezoidal rule [V²]."""
+    return float(np.trapezoid(psd, f))
+
+
+@dataclass(frozen=True)
+class NoiseBudget:
+    """Contributions to the comparator-input noise over a band.
+
+    Attributes
+    ----------
+    names : tuple of str
+    rms : numpy.ndarray
+        rms of each source over the band [V].
+    band : tuple of float
+        Integration band [Hz].
+    """
+
+    names: tuple[str, ...]
+    rms: np.ndarray
+    band: tuple[float, float]
+
+    @property
+    def total_rms(self) -> float:
+        """rms of all sources together (uncorrelated) [V]."""
+        return float(np.sqrt(np.sum(self.rms**2)))
+
+    @property
+    def share(self) -> np.ndarray:
+        """Share of the total variance of each source."""
+        return self.rms**2 / self.total_rms**2
+
+    def table(self) -> str:
+        """Plain-text table, largest first."""
+        order = np.argsort(-self.rms)
+        rows = [f"{'source':<36s} {'rms':>12s} {'share':>7s}"]
+        rows += [
+            f"{self.names[i]:<36s} {self.rms[i] * 1e3:9.4f} mV {100 * self.share[i]:6.2f}%"
+            for i in order
+        ]
+        rows.append(f"{'total':<36s} {self.total_rms * 1e3:9.4f} mV {100.0:6.2f}%")
+        return "\n".join(rows)
+
+
+def noise_budget(sources, band=(1e-3, 1e3), n: int = 4000) -> NoiseBudget:
+    """rms of each source over ``band`` and the total."""
+    f = band_grid(band[0], band[1], n)
+    rms = np.array([math.sqrt(band_variance(f, src.psd(f))) for src in sources])
+    return NoiseBudget(tuple(src.name for src in sources), rms, (float(band[0]), float(band[1])))
+
+
+def total_psd(sources, f) -> np.ndarray:
+    """Sum of the sources' PSDs [V² Hz⁻¹]."""
+    return np.sum([src.psd(f) for src in sources], axis=0)
+
+
+def nep(detector, f, temperature: float = 295.15):
+    """Noise-equivalent power of the sensor (with its JFET) for one lit element [W Hz⁻¹ᐟ²]."""
+    gate = total_psd(sensor_sources(detector, temperature), f)
+    return np.sqrt(gate) / np.abs(detector.sensor.responsivity(f))
+
+
+def specific_detectivity(detector, f, temperature: float = 295.15):
+    """D* = √A / NEP [m Hz¹ᐟ² W⁻¹] (× 100 for the customary cm Hz¹ᐟ² W⁻¹)."""
+    return math.sqrt(detector.sensor.elements[0].area) / nep(detector, f, temperature)

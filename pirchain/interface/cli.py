@@ -1,0 +1,425 @@
+"""Command line: ``pirchain [command] [design.toml] ...``.
+
+With no command, writes the full HTML report of the built-in demo design.
+Exit codes: 0 success, 2 bad design or arguments, 3 internal error.
+"""
+
+from __future__ import annotations
+
+import argparse
+import dataclasses
+import sys
+import textwrap
+import warnings
+
+import numpy as np
+
+from ..errors import DesignError, ValidityWarning
+from ..units import parse_quantity
+from .cautions import CAUTIONS
+from .output import Progress, free_name, to_json, write_new
+
+EXIT_OK, EXIT_DESIGN, EXIT_INTERNAL = 0, 2, 3
+
+COMMANDS = {
+    "check": "validate a design file and print what it describes",
+    "demo-design": "write the built-in demo design to a file to start from",
+    "walk": "simulate one walk: every stage's waveform (plot and CSV)",
+    "range": "detection range per bearing and a top-view coverage map",
+    "sweep": "sweep one parameter: range, false triggers, settling, supply",
+    "false-triggers": "noise budget and false-trigger rate (Rice and Monte Carlo)",
+    "netlist": "export the analog chain as a SPICE netlist",
+    "report": "the full self-contained HTML report",
+}
+
+
+def _epilog() -> str:
+    return "Caution: " + textwrap.fill(CAUTIONS, 78)
+
+
+class _Parser(argparse.ArgumentParser):
+    def error(self, message):
+        self.print_usage(sys.stderr)
+        print(f"pirchain: argument error: {message}", file=sys.stderr)
+        sys.exit(EXIT_DESIGN)
+
+
+def build_parser() -> argparse.ArgumentParser:
+    """The argument parser of the ``pirchain`` command."""
+    fmt = argparse.RawDescriptionHelpFormatter
+    p = _Parser(
+        prog="pirchain",
+        formatter_class=fmt,
+        epilog=_epilog(),
+        description="Model a passive-infrared motion detector from the walking person "
+        "through lens, pyroelectric sensor, amplifier and logic to its decisions. With "
+        "no command, writes the full report of the built-in demo design.",
+    )
+    p.add_argument("--version", action="version", version="pirchain 0.1.0")
+    sub = p.add_subparsers(dest="command", parser_class=_Parser)
+
+    def add(name, extra_help=""):
+        sp = sub.add_parser(
+            name,
+            help=COMMANDS[name],
+            formatter_class=fmt,
+            epilog=_epilog(),
+            description=COMMANDS[name].capitalize() + "." + extra_help,
+        )
+        if name != "demo-design":
+            sp.add_argument("design", nargs="?", help="design file (TOML); default: built-in demo")
+        sp.add_argument("--json", action="store_true", help="print results as JSON")
+        sp.add_argument("--seed", type=int, default=None, help="seed (default: the design's)")
+        sp.add_argument("--progress", action="store_true", help="always show progress")
+        sp.add_argument("--debug", action="store_true", help="show tracebacks of internal errors")
+        return sp
+
+    add("check")
+    sp = add("demo-design")
+    sp.add_argument("-o", "--output", required=True, help="file to write")
+    sp.add_argument("--force", action="store_true", help="replace an existing file")
+    sp = add("walk", " Writes CSV (time and every stage) and a PNG if asked.")
+    sp.add_argument("--distance", default="8", help="distance [m] (default 8)")
+    sp.add_argument("--bearing", default="0", help="bearing [°] (default 0)")
+    sp.add_argument("--speed", default=None, help="speed [m/s] (default: the design's)")
+    sp.add_argument("--kind", choices=("tangential", "radial"), default="tangential")
+    sp.add_argument("--csv", help="write the waveforms here")
+    sp.add_argument("--plot", help="write a PNG of the waveforms here")
+    sp.add_argument("--force", action="store_true", help="replace existing output files")
+    sp = add("range", " Range at P(detect) >= the design's level, with and without noise.")
+    sp.add_argument("--bearings", default=None, help="comma-separated bearings [°]")
+    sp.add_argument("--kind", choices=("tangential", "radial", "both"), default="both")
+    sp.add_argument("--map", help="write a PNG top-view coverage map here")
+    sp.add_argument("--force", action="store_true", help="replace existing output files")
+    sp = add("sweep", " Values take engineering notation, e.g. 62k,150k,470k.")
+    sp.add_argument(
+        "--path", default=None, help="dotted path, e.g. detector.comparator.window.r_middle"
+    )
+    sp.add_argument("--values", default=None, help="comma-separated values")
+    sp.add_argument("--budget", default=None, help="false triggers per year allowed")
+    sp = add("false-triggers", " Monte Carlo only if --mc-hours is given.")
+    sp.add_argument("--mc-hours", default=None, help="simulated hours for the Monte Carlo")
+    sp = add("netlist", " With --walk-distance, the PWL source carries that walk.")
+    sp.add_argument("-o", "--output", required=True, help="netlist file to write")
+    sp.add_argument("--walk-distance", default=None, help="distance of a tangential walk [m]")
+    sp.add_argument("--force", action="store_true", help="replace an existing file")
+    sp = add("report")
+    sp.add_argument(
+        "-o",
+        "--output",
+        default=None,
+        help="HTML file (default: pirchain-report.html, never overwritten)",
+    )
+    sp.add_argument("--force", action="store_true", help="replace an existing file")
+    return p
+
+
+def _design(args):
+    from .demo import demo_design
+    from .design_file import load
+
+    d = demo_design() if getattr(args, "design", None) is None else load(args.design)
+    if args.seed is not None:
+        d = dataclasses.replace(d, analysis=dataclasses.replace(d.analysis, seed=args.seed))
+    return d
+
+
+def _emit(args, data: dict, text: str) -> None:
+    print(to_json(data) if args.json else text)
+
+
+def _list(text, field, unit=None):
+    return [
+        parse_quantity(v.strip(), f"{field}[{i}]", unit)
+        for i, v in enumerate(text.split(","))
+        if v.strip()
+    ]
+
+
+def cmd_check(args):
+    d = _design(args)
+    det = d.detector
+    lo, hi = det.window()
+    data = {
+        "name": det.name,
+        "facets": len(det.lens.facets),
+        "beams": det.beams().count,
+        "stages": [st.name for st in det.stages],
+        "window_v": [lo, hi],
+        "rest_levels_v": det.rest_levels(),
+        "supply_a": det.supply_budget().total,
+    }
+    text = "\n".join(
+        [
+            f"design OK: {det.name}",
+            f"lens: {data['facets']} facets, {data['beams']} beams",
+            "stages: " + ", ".join(data["stages"]),
+            f"window: {lo:.4f} to {hi:.4f} V",
+            f"supply: {data['supply_a'] * 1e6:.2f} µA",
+        ]
+    )
+    _emit(args, data, text)
+
+
+def cmd_demo_design(args):
+    from .demo_text import DEMO_TOML
+
+    write_new(args.output, DEMO_TOML, args.force)
+    _emit(args, {"written": args.output}, f"wrote {args.output}")
+
+
+def cmd_walk(args):
+    from ..physics.scene import radial_path, tangential_path, walks_from_paths
+
+    d = _design(args)
+    det = d.detector
+    dist = parse_quantity(args.distance, "--distance", "m")
+    bearing = parse_quantity(args.bearing, "--bearing")
+    speed = d.speed if args.speed is None else parse_quantity(args.speed, "--speed")
+    if dist <= 0 or speed <= 0:
+        raise DesignError("--distance/--speed", (dist, speed), "values > 0")
+    path = (
+        tangential_path(dist, bearing, speed, length=6.0)
+        if args.kind == "tangential"
+        else radial_path(dist + 3.0, max(dist - 3.0, 0.3), bearing, speed)
+    )
+    walk = walks_from_paths([path], path.duration + 4.0, d.analysis.sample_rate)
+    res = det.simulate(d.target, d.environment, walk, lux=d.lux)
+    cols = {
+        "time_s": res.time,
+        "equivalent_power_w": res.equivalent_power[0],
+        "gate_v": res.gate_voltage[0],
+        "source_v": res.source_voltage[0],
+    }
+    for k, out in enumerate(res.stage_outputs, 1):
+        cols[f"stage{k}_v"] = out[0]
+    if args.csv:
+        lines = [",".join(cols)] + [
+            ",".join(f"{v:.9g}" for v in row) for row in zip(*cols.values(), strict=True)
+        ]
+        write_new(args.csv, "\n".join(lines) + "\n", args.force)
+    if args.plot:
+        from . import plots
+
+        write_new(args.plot, plots.png_bytes(plots.waveforms(res, det)), args.force)
+    dec = res.decisions[0]
+    rest = det.rest_levels()[-1]
+    data = {
+        "distance_m": dist,
+        "bearing_deg": bearing,
+        "speed_m_s": speed,
+        "kind": args.kind,
+        "detected": dec.detected,
+        "first_on_s": dec.first_on,
+        "peak_gate_v": float(np.max(np.abs(res.gate_voltage))),
+        "peak_comparator_excursion_v": float(np.max(np.abs(res.comparator_input - rest))),
+        "pulses": int(res.pulses.start.size),
+        "window_v": list(res.window),
+    }
+    text = "\n".join(f"{k}: {v}" for k, v in data.items())
+    _emit(args, data, text)
+
+
+def cmd_range(args):
+    from ..analysis.detection_range import range_table
+
+    d = _design(args)
+    a = d.analysis
+    bearings = a.bearings if args.bearings is None else _list(args.bearings, "--bearings")
+    kinds = ("tangential", "radial") if args.kind == "both" else (args.kind,)
+    prog = Progress("range", True if args.progress else None)
+    rows = [
+        {
+            "kind": r.kind,
+            "bearing_deg": r.bearing_deg,
+            "range_m": r.range,
+            "range_noise_free_m": r.range_noise_free,
+            "gaps_m": r.gaps,
+        }
+        for r in range_table(d, kinds, bearings, prog)
+    ]
+    if args.map:
+        from ..analysis.coverage import top_view
+        from . import plots
+
+        m = top_view(d.detector, d.target, d.environment, "tangential", a)
+        write_new(args.map, plots.png_bytes(plots.top_view(m, d.detector)), args.force)
+    text = "\n".join(
+        [f"{'walk':>10} {'bearing':>8} {'range m':>8} {'noise-free':>10}  gaps"]
+        + [
+            f"{r['kind']:>10} {r['bearing_deg']:8.1f} {r['range_m']:8.2f} "
+            f"{r['range_noise_free_m']:10.2f}  {r['gaps_m'] or ''}"
+            for r in rows
+        ]
+    )
+    _emit(args, {"level": a.level, "speed_m_s": d.speed, "ranges": rows}, text)
+
+
+def cmd_sweep(args):
+    from ..analysis.sweep import get_path, log_values, trade_off
+
+    d = _design(args)
+    a = d.analysis
+    path = args.path or a.sensitivity_path
+    if args.values is not None:
+        values = _list(args.values, "--values")
+    elif path == a.sensitivity_path and a.sensitivity_values:
+        values = list(a.sensitivity_values)
+    else:
+        v0 = float(get_path(d, path))
+        values = log_values(v0 / 4, v0 * 2, 5)
+    budget = (
+        a.false_trigger_budget if args.budget is None else parse_quantity(args.budget, "--budget")
+    )
+    tr = trade_off(d, path, values, budget, Progress("sweep", True if args.progress else None))
+    rows = [dict(r) for r in tr.table.rows]
+    text = tr.table.to_text() + f"\nbest within {budget:g}/year: {path} = {tr.best_value}"
+    _emit(
+        args,
+        {"path": path, "budget_per_year": budget, "best_value": tr.best_value, "rows": rows},
+        text,
+    )
+
+
+def cmd_false_triggers(args):
+    from ..analysis.false_triggers import (
+        DAY,
+        YEAR,
+        analytic_rate,
+        comparator_sources,
+        monte_carlo_rate,
+        threshold_for_rate,
+    )
+    from ..circuit.noise import noise_budget
+
+    d = _design(args)
+    det, env = d.detector, d.environment
+    src = comparator_sources(det, env, d.draught)
+    b = noise_budget(src, (1e-3, 1e3))
+    est = analytic_rate(det, env, d.draught, sources=src)
+    th, r = threshold_for_rate(det, env, 1.0 / YEAR, d.draught)
+    data = {
+        "noise": dict(zip(b.names, b.rms.tolist(), strict=True)),
+        "noise_total_v": b.total_rms,
+        "pulse_rate_per_hour": est.pulse_rate * 3600,
+        "alarms_per_hour": est.alarm_rate * 3600,
+        "alarms_per_day": est.alarm_rate * DAY,
+        "alarms_per_year": est.alarm_rate * YEAR,
+        "threshold_for_1_per_year_v": th,
+        "sensitivity_resistor_for_1_per_year_ohm": r,
+    }
+    text = (
+        b.table() + f"\nanalytic: {est.alarm_rate * YEAR:.4g} per year "
+        f"({est.alarm_rate * DAY:.4g} per day)\n1 per year needs a {th * 1e3:.2f} mV threshold"
+    )
+    if args.mc_hours is not None:
+        hours = parse_quantity(args.mc_hours, "--mc-hours")
+        mc = monte_carlo_rate(
+            det,
+            env,
+            hours * 3600,
+            d.draught,
+            d.analysis.seed,
+            sample_rate=d.analysis.sample_rate,
+            progress=Progress("monte carlo", True if args.progress else None),
+        )
+        data["monte_carlo"] = {
+            "hours": mc.duration / 3600,
+            "pulses": mc.pulses,
+            "alarms": mc.alarms,
+            "alarms_per_day_95": [x * DAY for x in mc.alarm_interval],
+        }
+        text += (
+            f"\nMonte Carlo {mc.duration / 3600:.1f} h: {mc.alarms} turn-ons, 95 % "
+            f"interval {mc.alarm_interval[0] * DAY:.3g}–{mc.alarm_interval[1] * DAY:.3g} "
+            "per day"
+        )
+    _emit(args, data, text)
+
+
+def cmd_netlist(args):
+    from ..circuit.netlist import netlist
+    from ..physics.scene import tangential_path, walks_from_paths
+    from ..physics.sensor import gate_current
+
+    d = _design(args)
+    fs = d.analysis.sample_rate
+    cur = None
+    if args.walk_distance is not None:
+        dist = parse_quantity(args.walk_distance, "--walk-distance", "m")
+        w = walks_from_paths(
+            [tangential_path(dist, 0.0, d.speed, length=6.0)], 6.0 / d.speed + 4.0, fs
+        )
+        run = d.detector.run(d.target, d.environment, w, ("equivalent_power",))
+        cur = gate_current(d.detector.sensor, run.equivalent_power, fs)[0]
+    text = netlist(d.detector, cur, fs, None if cur is not None else 60.0, power_up=cur is None)
+    write_new(args.output, text, args.force)
+    _emit(args, {"written": args.output}, f"wrote {args.output}")
+
+
+def cmd_report(args):
+    from .report import compute, render
+
+    d = _design(args)
+    out = args.output or free_name("pirchain-report", ".html")
+    data = compute(d, Progress("report", True if args.progress else None))
+    write_new(out, render(d, data), args.force)
+    _emit(
+        args,
+        {
+            "written": out,
+            **{
+                k: v
+                for k, v in data["numbers"].items()
+                if not k.endswith("_text") and not k.endswith("_table")
+            },
+        },
+        f"wrote {out}\n\n{_epilog()}",
+    )
+
+
+HANDLERS = {
+    "check": cmd_check,
+    "demo-design": cmd_demo_design,
+    "walk": cmd_walk,
+    "range": cmd_range,
+    "sweep": cmd_sweep,
+    "false-triggers": cmd_false_triggers,
+    "netlist": cmd_netlist,
+    "report": cmd_report,
+}
+
+
+def main(argv=None) -> int:
+    """Entry point; returns the exit code (0 ok, 2 bad design or arguments, 3 internal error)."""
+    args = build_parser().parse_args(argv)
+    if args.command is None:
+        args = build_parser().parse_args(["report"])
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("always", ValidityWarning)
+            warnings.showwarning = lambda m, *a, **k: print(
+                f"pirchain: warning: {m}", file=sys.stderr
+            )
+            HANDLERS[args.command](args)
+        return EXIT_OK
+    except DesignError as exc:
+        print(f"pirchain: design error: {exc}", file=sys.stderr)
+        return EXIT_DESIGN
+    except BrokenPipeError:  # output piped into a program that stopped reading
+        return EXIT_OK
+    except KeyboardInterrupt:
+        print("pirchain: interrupted; nothing half-written was left", file=sys.stderr)
+        return EXIT_INTERNAL
+    except Exception as exc:  # noqa: BLE001 - one line for the user, traceback on --debug
+        if getattr(args, "debug", False):
+            raise
+        print(
+            f"pirchain: internal error: {type(exc).__name__}: {exc} (rerun with --debug)",
+            file=sys.stderr,
+        )
+        return EXIT_INTERNAL
+
+
+if __name__ == "__main__":
+    sys.exit(main())

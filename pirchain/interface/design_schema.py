@@ -1,0 +1,272 @@
+"""Schema of design files: every section, key, kind and unit.
+
+Kinds: ``q`` quantity (engineering notation, optional unit), ``celsius``, ``int``, ``bool``,
+``str``, ``choice``, ``list``, ``vref`` (a voltage or "reference"), ``section`` (a table) and
+``tables`` (a list of tables). ``REQ`` marks a required key. Defaults are not written here:
+:class:`From` reads each from the dataclass field or function parameter that owns it, so an
+object's default lives in one place; so do validation limits, which the objects check when
+the loader builds them.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import inspect
+
+from ..chain.detector import Detector
+from ..circuit.comparator import WindowComparator
+from ..circuit.follower import Jfet
+from ..circuit.opamp import OpAmp
+from ..circuit.stages import STAGE_TYPES
+from ..circuit.supply import PowerSupply
+from ..design import Design
+from ..logic.rules import DaylightInhibit, PulseLogic
+from ..physics.disturbance import Draught
+from ..physics.optics import Facet, Lens, LensRing, LensTier, Mount, wall_lens
+from ..physics.scene import DEFAULT_TARGET, TARGET_PRESETS, Environment
+from ..physics.sensor import MATERIALS, PyroSensor, dual_elements
+from ..settings import AnalysisSettings
+
+REQ = object()  # marks a required key
+
+
+@dataclasses.dataclass(frozen=True)
+class From:
+    """The default of a key is that of ``owner``'s field or parameter ``name`` (default: the
+    key itself), optionally one ``index`` of a tuple default."""
+
+    owner: object
+    name: str | None = None
+    index: int | None = None
+
+    def resolve(self, key: str):
+        name = self.name or key
+        if dataclasses.is_dataclass(self.owner):
+            f = {x.name: x for x in dataclasses.fields(self.owner)}[name]
+            value = f.default_factory() if f.default is dataclasses.MISSING else f.default
+        else:
+            value = inspect.signature(self.owner).parameters[name].default
+        return value if self.index is None else value[self.index]
+
+
+def _q(unit=None, default=REQ):
+    return ("q", unit, default)
+
+
+def _choice(options, default=REQ):
+    return ("choice", tuple(options), default)
+
+
+def _fields(owner, units: dict, kinds: dict | None = None) -> dict:
+    """One key per field of dataclass ``owner``: quantities in ``units``, others by ``kinds``."""
+    kinds = kinds or {}
+    out = {}
+    for f in dataclasses.fields(owner):
+        if f.name in kinds:
+            out[f.name] = (*kinds[f.name], From(owner))
+        elif f.name in units:
+            out[f.name] = ("q", units[f.name], From(owner))
+    return out
+
+
+TIER = {
+    "elevation_deg": _q(),
+    "count": ("int", None, REQ),
+    "focal_length": _q("m"),
+    "area": _q("m2"),
+    "transmittance": _q(None, From(LensTier)),
+}
+RING = {
+    "nadir_deg": _q(),
+    "count": ("int", None, REQ),
+    "focal_length": _q("m"),
+    "area": _q("m2"),
+    "transmittance": _q(None, From(LensRing)),
+    "azimuth_offset_deg": _q(None, From(LensRing)),
+}
+FACET = {
+    "azimuth_deg": _q(),
+    "elevation_deg": _q(),
+    "focal_length": _q("m"),
+    "area": _q("m2"),
+    "transmittance": _q(None, From(Facet)),
+}
+OPAMP = _fields(
+    OpAmp,
+    {"gbw": "Hz", "v_low": "V", "v_high": "V", "quiescent_current": "A", "e_n": "V/rtHz",
+     "i_n": "A/rtHz", "open_loop_gain": None},
+)  # fmt: skip
+STAGE = {
+    "type": _choice(STAGE_TYPES),
+    "name": ("str", None, ""),  # empty: "stage <n>"
+    "r1": _q("ohm", None),
+    "c1": _q("F", None),
+    "rf": _q("ohm", None),
+    "cf": _q("F", None),
+    "r": _q("ohm", None),
+    "c": _q("F", None),
+    "num": ("list", None, None),
+    "den": ("list", None, None),
+    "v_ref": ("vref", None, None),  # none: the stage type's usual reference
+    "clamp": ("bool", None, True),
+    "opamp": ("section", OPAMP, None),
+}
+_MATERIAL = PyroSensor.from_material
+_DATASHEET = PyroSensor.from_datasheet
+SCHEMA = {
+    "design": ("section", {"name": ("str", None, From(Detector))}, {}),
+    "lens": (
+        "section",
+        {
+            "layout": _choice(("wall", "ceiling", "table")),
+            "fov_deg": _q(None, From(wall_lens)),
+            "surface": _choice(("dome", "flat"), From(Lens)),
+            "name": ("str", None, From(Lens)),
+            "tiers": ("tables", TIER, None),
+            "rings": ("tables", RING, None),
+            "facets": ("tables", FACET, None),
+        },
+        REQ,
+    ),
+    "mount": (
+        "section",
+        {
+            "kind": _choice(("wall", "ceiling"), From(Mount)),
+            "height": _q("m", From(Mount)),
+            "tilt_deg": _q(None, From(Mount)),
+            "rotation_deg": _q(None, From(Mount)),
+        },
+        {},
+    ),
+    "sensor": (
+        "section",
+        {
+            "route": _choice(("material", "datasheet"), "material"),
+            "material": _choice(MATERIALS, From(_MATERIAL)),
+            "layout": _choice(("dual", "quad"), "dual"),
+            "element_width": _q("m", From(dual_elements, "width")),
+            "element_height": _q("m", From(dual_elements, "height")),
+            "element_spacing": _q("m", From(dual_elements, "spacing")),
+            "thickness": _q("m", From(_MATERIAL)),
+            "absorptance": _q(None, From(_MATERIAL)),
+            "thermal_time_constant": _q("s"),
+            "gate_resistance": _q("ohm", None),
+            "input_capacitance": _q("F", From(PyroSensor)),
+            "mismatch": _q(None, From(PyroSensor)),
+            "connection": _choice(("series", "parallel"), From(PyroSensor)),
+            "window_transmittance": _q(None, From(PyroSensor)),
+            "band_low": _q("m", From(PyroSensor, "band", 0)),
+            "band_high": _q("m", From(PyroSensor, "band", 1)),
+            "responsivity": _q("V/W", None),
+            "electrical_time_constant": _q("s", None),
+            "element_capacitance": _q("F", From(_DATASHEET)),
+            "reference_frequency": _q("Hz", From(_DATASHEET)),
+            "loss_tangent": _q(None, None),  # none: the material's (or the model's default)
+        },
+        REQ,
+    ),
+    "follower": (
+        "section",
+        {
+            "idss": _q("A"),
+            "pinch_off": _q("V"),
+            "source_resistance": _q("ohm"),
+            "e_n": _q("V/rtHz", From(Jfet)),
+            "i_n": _q("A/rtHz", From(Jfet)),
+        },
+        REQ,
+    ),
+    "opamp": ("section", OPAMP, {}),
+    "stages": ("tables", STAGE, REQ),
+    "comparator": (
+        "section",
+        {
+            "window": _choice(("ladder", "fixed", "mapped")),
+            "r_top": _q("ohm", None),
+            "r_middle": _q("ohm", None),
+            "r_bottom": _q("ohm", None),
+            "threshold": _q("V", None),
+            "settings": ("list", None, None),
+            "thresholds": ("list", None, None),
+            "setting": _q(None, None),
+            "hysteresis": _q("V", From(WindowComparator)),
+        },
+        REQ,
+    ),
+    "logic": (
+        "section",
+        {
+            **_fields(
+                PulseLogic,
+                {"rate": "Hz", "count_window": "s", "single_pulse_factor": None,
+                 "blanking": "s", "hold": "s", "lockout": "s"},
+                {"pulses_required": ("int", None), "alternate": ("bool", None),
+                 "retrigger": ("bool", None)},
+            ),  # fmt: skip
+            "daylight": (
+                "section",
+                {
+                    "r_fixed": _q("ohm"),
+                    **_fields(
+                        DaylightInhibit,
+                        {"r_ldr_10lux": "ohm", "gamma": None, "v_on": "V", "hysteresis": "V"},
+                    ),
+                },
+                None,
+            ),
+        },
+        {},
+    ),
+    "supply": (
+        "section",
+        _fields(
+            PowerSupply,
+            {"voltage": "V", "reference_top": "ohm", "reference_bottom": "ohm",
+             "logic_current": "A", "other_current": "A", "limit": "A"},
+        ),  # fmt: skip
+        {},
+    ),
+    "scene": (
+        "section",
+        {
+            "target": _choice(TARGET_PRESETS, DEFAULT_TARGET),
+            "speed": _q("m/s", From(Design)),
+            "air_c": ("celsius", None, From(Environment)),
+            "radiant_c": ("celsius", None, From(Environment)),
+            "background_c": ("celsius", None, From(Environment)),
+            "background_emissivity": _q(None, From(Environment)),
+            "air_speed": _q("m/s", From(Environment)),
+            "lux": _q("lux", From(Design)),
+        },
+        {},
+    ),
+    "draught": (
+        "section",
+        _fields(
+            Draught,
+            {"rms": "K", "correlation_time": "s", "beam_correlation": None, "fov_fraction": None},
+        ),
+        None,
+    ),
+    "analysis": (
+        "section",
+        _fields(
+            AnalysisSettings,
+            {"sample_rate": "Hz", "level": None, "d_min": "m", "d_max": "m", "step": "m",
+             "walk_distance": "m", "false_trigger_budget": None, "coverage_cell": "m",
+             "coverage_x_max": "m", "coverage_speed": "m/s", "settle_duration": "s",
+             "settle_sample_rate": "Hz"},
+            {"trials": ("int", None), "refine": ("int", None), "noise": ("bool", None),
+             "bearings": ("list", None), "seed": ("int", None),
+             "sensitivity_path": ("str", None), "sensitivity_values": ("list", None),
+             "coverage_trials": ("int", None)},
+        ),  # fmt: skip
+        {},
+    ),
+}
+
+
+def default(spec, key: str):
+    """The default of a schema entry (resolving :class:`From`)."""
+    value = spec[2]
+    return value.resolve(key) if isinstance(value, From) else value

@@ -1,0 +1,215 @@
+"""Figures for the report and the command line (matplotlib, Agg backend, print-readable)."""
+
+from __future__ import annotations
+
+import io
+import math
+
+import matplotlib
+
+matplotlib.use("Agg")
+import matplotlib.pyplot as plt  # noqa: E402
+import numpy as np  # noqa: E402
+
+plt.rcParams.update(
+    {
+        "font.size": 10,
+        "axes.grid": True,
+        "grid.alpha": 0.3,
+        "figure.dpi": 110,
+        "savefig.bbox": "tight",
+    }
+)
+
+
+def png_bytes(fig) -> bytes:
+    """Render a figure to PNG bytes and close it."""
+    buf = io.BytesIO()
+    fig.savefig(buf, format="png")
+    plt.close(fig)
+    return buf.getvalue()
+
+
+def bode(detector):
+    """Magnitude and phase of comparator-input change per element power (V/W)."""
+    f = np.geomspace(0.01, 100.0, 600)
+    h = detector.transfer_function(True)(2j * math.pi * f)
+    fig, (a1, a2) = plt.subplots(2, 1, figsize=(7, 5), sharex=True)
+    a1.semilogx(f, 20 * np.log10(np.abs(h)))
+    a1.set_ylabel("|H| [dB re 1 V/W]")
+    a1.set_title("Chain response: comparator input per equivalent element power")
+    a2.semilogx(f, np.degrees(np.unwrap(np.angle(h))))
+    a2.set_ylabel("phase [°]")
+    a2.set_xlabel("frequency [Hz]")
+    return fig
+
+
+def waveforms(result, detector, walk: int = 0):
+    """Every stage's waveform of one walk (a :class:`pirchain.chain.engine.ChainRun` with
+    every tap)."""
+    t = result.time
+    rows = [
+        ("element power difference [nW]", 1e9 * result.equivalent_power[walk]),
+        ("gate voltage change [µV]", 1e6 * result.gate_voltage[walk]),
+        ("JFET source [V]", result.source_voltage[walk]),
+    ]
+    rows += [
+        (f"{st.name} output [V]", out[walk])
+        for st, out in zip(detector.stages, result.stage_outputs, strict=True)
+    ]
+    fig, axes = plt.subplots(len(rows), 1, figsize=(7, 1.7 * len(rows)), sharex=True)
+    for ax, (label, y) in zip(axes, rows, strict=True):
+        ax.plot(t, y, lw=1)
+        ax.set_ylabel(label, fontsize=8)
+    lo, hi = result.window
+    axes[-1].axhline(lo, color="C3", ls="--", lw=1, label="window")
+    axes[-1].axhline(hi, color="C3", ls="--", lw=1)
+    for d in result.decisions[walk].triggers:
+        axes[-1].axvline(d, color="C2", lw=1)
+    axes[-1].legend(loc="upper right", fontsize=8)
+    axes[-1].set_xlabel("time [s]")
+    return fig
+
+
+def top_view(cmap, detector, title: str = ""):
+    """Detection probability on the floor grid with the detector and beam centres."""
+    fig, ax = plt.subplots(figsize=(6.5, 5.5))
+    cell = cmap.x[1] - cmap.x[0] if cmap.x.size > 1 else 1.0
+    ext = [cmap.x[0] - cell / 2, cmap.x[-1] + cell / 2, cmap.y[0] - cell / 2, cmap.y[-1] + cell / 2]
+    im = ax.imshow(
+        cmap.probability, origin="lower", extent=ext, vmin=0, vmax=1, cmap="viridis", aspect="equal"
+    )
+    fig.colorbar(im, ax=ax, label="P(detect)")
+    beams = detector.beams()
+    r = max(ext[1], ext[3])
+    for az in np.unique(np.round(beams.azimuth, 6)):
+        ax.plot([0, r * math.cos(az)], [0, r * math.sin(az)], color="w", lw=0.3, alpha=0.5)
+    ax.plot(0, 0, marker="s", color="C3", ms=8, label="detector")
+    ax.set_xlim(ext[0], ext[1])
+    ax.set_ylim(ext[2], ext[3])
+    ax.set_xlabel("x along boresight [m]")
+    ax.set_ylabel("y [m]")
+    ax.set_title(title or f"Top view: {cmap.kind} walks at {cmap.speed:g} m/s")
+    ax.legend(loc="upper right", fontsize=8)
+    return fig
+
+
+def side_view(side, max_distance: float = 20.0):
+    """Beams against height and distance with target height bands."""
+    d = np.linspace(0.0, max_distance, 200)
+    lo, hi = side.heights(d)
+    fig, ax = plt.subplots(figsize=(7, 3.8))
+    for band, h, c in (("adult", 1.75, "0.85"), ("child", 1.28, "0.75"), ("pet", 0.45, "0.6")):
+        ax.fill_between(d, 0, h, color=c, alpha=0.35, label=f"{band} (to {h} m)")
+    for k in range(lo.shape[0]):
+        col = "C3" if side.polarity[k] > 0 else "C0"
+        ax.fill_between(
+            d, np.clip(lo[k], 0, None), np.clip(hi[k], 0, None), color=col, alpha=0.35, lw=0
+        )
+    ax.plot([], [], color="C3", lw=6, alpha=0.4, label="+ element beams")
+    ax.plot([], [], color="C0", lw=6, alpha=0.4, label="− element beams")
+    ax.set_ylim(0, side.lens_height * 1.15)
+    ax.set_xlim(0, max_distance)
+    ax.set_xlabel("horizontal distance [m]")
+    ax.set_ylabel("height [m]")
+    ax.set_title(f"Side view at bearing {side.bearing_deg:g}°")
+    ax.legend(fontsize=7, loc="upper right", ncol=2)
+    return fig
+
+
+def range_by_bearing(results):
+    """Polar plot of tangential (and radial) range per bearing."""
+    fig = plt.figure(figsize=(6, 5))
+    ax = fig.add_subplot(111, projection="polar")
+    for kind, marker in (("tangential", "o-"), ("radial", "s--")):
+        rs = [r for r in results if r.kind == kind]
+        if rs:
+            ax.plot(
+                np.radians([r.bearing_deg for r in rs]),
+                [r.range for r in rs],
+                marker,
+                label=f"{kind}",
+            )
+    ax.set_thetamin(-90)
+    ax.set_thetamax(90)
+    ax.set_title("Detection range per bearing [m]")
+    ax.legend(loc="lower left", fontsize=8)
+    return fig
+
+
+def sweep_plot(table, path: str, budget: float | None = None, best=None):
+    """Range and false triggers against a swept parameter (log x)."""
+    x = np.array([r[path] for r in table.rows], dtype=float)
+    fig, ax = plt.subplots(figsize=(7, 4))
+    ax.semilogx(x, table.column("tangential_range_m"), "o-", label="tangential range")
+    ax.semilogx(x, table.column("radial_range_m"), "s--", label="radial range")
+    ax.set_xlabel(path.split(".")[-1] + " [SI unit]")
+    ax.set_ylabel("range [m]")
+    ax2 = ax.twinx()
+    fy = np.clip(table.column("false_triggers_per_year"), 1e-12, None)
+    ax2.semilogy(x, fy, "^:", color="C3", label="false triggers / year")
+    ax2.set_ylabel("false triggers per year")
+    if budget is not None:
+        ax2.axhline(budget, color="C3", lw=0.8, ls="--")
+    if best is not None:
+        ax.axvline(x[best], color="C2", lw=1.5, label="chosen")
+    h1, l1 = ax.get_legend_handles_labels()
+    h2, l2 = ax2.get_legend_handles_labels()
+    ax.legend(h1 + h2, l1 + l2, fontsize=8, loc="center right")
+    ax.set_title("Range and false triggers against " + path.split(".")[-1])
+    return fig
+
+
+def trade_off(trade):
+    """Range against false triggers per year across the sensitivity setting."""
+    t = trade.table
+    fy = np.clip(t.column("false_triggers_per_year"), 1e-12, None)
+    rng = t.column("tangential_range_m")
+    fig, ax = plt.subplots(figsize=(6.5, 4))
+    ax.semilogx(fy, rng, "o-")
+    for r, x, y in zip(t.rows, fy, rng, strict=True):
+        ax.annotate(
+            f"{r[t.paths[0]]:.3g}", (x, y), fontsize=7, xytext=(3, 3), textcoords="offset points"
+        )
+    ax.axvline(trade.budget_per_year, color="C3", ls="--", lw=1, label="budget")
+    if trade.best is not None:
+        ax.plot(fy[trade.best], rng[trade.best], "*", ms=14, color="C2", label="chosen")
+    ax.set_xlabel("false triggers per year (floored at 1e-12)")
+    ax.set_ylabel("tangential range [m]")
+    ax.set_title("Trade-off across the sensitivity setting")
+    ax.legend(fontsize=8)
+    return fig
+
+
+def power_up(pu):
+    """Comparator input after switch-on with the window
+    (:class:`pirchain.analysis.power_up.PowerUp`)."""
+    t, run, window = pu.time, pu.run, pu.run.window
+    fig, ax = plt.subplots(figsize=(7, 3.2))
+    ax.plot(t, run.comparator_input[0], lw=1, label="comparator input")
+    for k, out in enumerate(run.stage_outputs[:-1]):
+        ax.plot(t, out[0], lw=0.8, alpha=0.7, label=f"stage {k + 1} output")
+    ax.axhline(window[0], color="C3", ls="--", lw=1, label="window")
+    ax.axhline(window[1], color="C3", ls="--", lw=1)
+    ax.set_xlabel("time after switch-on [s]")
+    ax.set_ylabel("voltage [V]")
+    ax.set_title("Power-up from discharged capacitors")
+    ax.legend(fontsize=8)
+    return fig
+
+
+def noise_psd(sources, f=None):
+    """PSD of the largest noise sources and the total at the comparator input."""
+    f = np.geomspace(0.01, 100.0, 500) if f is None else f
+    psds = [(s.name, s.psd(f)) for s in sources]
+    total = np.sum([p for _, p in psds], axis=0)
+    psds.sort(key=lambda x: -np.trapezoid(x[1], f))
+    fig, ax = plt.subplots(figsize=(7, 4))
+    ax.loglog(f, np.sqrt(total), "k", lw=2, label="total")
+    for name, p in psds[:6]:
+        ax.loglog(f, np.sqrt(p), lw=1, label=name)
+    ax.set_xlabel("frequency [Hz]")
+    ax.set_ylabel("noise density [V/√Hz]")
+    ax.set_title("Noise at the comparator input")
+    ax.legend(fontsize=7)
+    return fig

@@ -1,0 +1,421 @@
+"""Dual- (or quad-) element pyroelectric sensor: thermal stage, pyro current, gate node.
+
+Each element obeys H dθ/dt + G θ = η P(t) (τ_T = H/G) and delivers i = p A dθ/dt. The
+elements are wired in opposition; the gate node is R_G ∥ C_gate with τ_E = R_G C_gate:
+
+* ``series`` (pairs in series opposition): each pair is a source (i_A − i_B)/2 into C_el/2;
+  pairs (quad sensors) are in parallel.
+* ``parallel``: i_A − i_B (− …) into n C_el.
+* ``single``: one element, for characterisation.
+
+The JFET input capacitance adds to C_gate. The voltage responsivity of one lit element is
+
+    R_V(ω) = c · η p A ω R_G / (G √(1 + ω²τ_T²) √(1 + ω²τ_E²)),
+
+with c the element's share of the gate current (1/2 series, 1 parallel or single). Element
+mismatch m = (R_+ − R_−)/R_mean scales the + elements by 1 + m/2 and the − elements by
+1 − m/2, so uniform illumination of a dual gives m × the nominal one-element response; the
+datasheet balance |V_A − V_B|/(V_A + V_B) is m/2.
+
+References
+----------
+.. [1] Putley, E. H., "The pyroelectric detector", Semiconductors and Semimetals 5 (1970).
+.. [2] Porter, S. G., "A brief guide to pyroelectric detectors", Ferroelectrics 33, 193 (1981).
+.. [3] Whatmore, R. W., "Pyroelectric devices and materials", Rep. Prog. Phys. 49, 1335 (1986).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, replace
+
+import control
+import numpy as np
+from scipy import constants, signal
+
+from ..errors import DesignError, check_choice, check_positive, check_range
+
+EPS0 = constants.epsilon_0
+
+
+@dataclass(frozen=True)
+class PyroMaterial:
+    """Pyroelectric material constants.
+
+    Attributes
+    ----------
+    name : str
+        Label.
+    pyro_coefficient : float
+        p [C m⁻² K⁻¹].
+    permittivity : float
+        Relative permittivity ε_r.
+    loss_tangent : float
+        Dielectric loss tan δ.
+    heat_capacity : float
+        Volumetric heat capacity c' [J m⁻³ K⁻¹].
+    """
+
+    name: str
+    pyro_coefficient: float
+    permittivity: float
+    loss_tangent: float
+    heat_capacity: float
+
+    @property
+    def voltage_figure_of_merit(self) -> float:
+        """F_V = p / (c' ε0 ε_r) [m² C⁻¹]."""
+        return self.pyro_coefficient / (self.heat_capacity * EPS0 * self.permittivity)
+
+    @property
+    def detectivity_figure_of_merit(self) -> float:
+        """F_D = p / (c' √(ε0 ε_r tan δ)) [Pa⁻¹/²]."""
+        return self.pyro_coefficient / (
+            self.heat_capacity * math.sqrt(EPS0 * self.permittivity * self.loss_tangent)
+        )
+
+
+#: Materials table after Whatmore (1986) (figures from memory; docs/validation.md checks
+#: them through the figures of merit).
+MATERIALS = {
+    "LiTaO3": PyroMaterial("LiTaO3", 230e-6, 47.0, 0.005, 3.2e6),
+    "TGS": PyroMaterial("TGS", 550e-6, 55.0, 0.025, 2.6e6),
+    "DTGS": PyroMaterial("DTGS", 550e-6, 43.0, 0.02, 2.4e6),
+    "PZ ceramic": PyroMaterial("PZ ceramic", 380e-6, 290.0, 0.003, 2.5e6),
+    "PVDF": PyroMaterial("PVDF", 27e-6, 12.0, 0.015, 2.43e6),
+}
+
+
+@dataclass(frozen=True)
+class SensingElement:
+    """One sensing element in the focal plane.
+
+    Attributes
+    ----------
+    x, y : float
+        Centre in the sensor plane [m] (x across, y along the long side of a dual).
+    width, height : float
+        Size along x and y [m].
+    polarity : {+1, -1}
+        Sign with which the element's charge reaches the gate.
+    """
+
+    x: float
+    y: float
+    width: float
+    height: float
+    polarity: int = 1
+
+    def __post_init__(self):
+        check_positive("sensor.element.width", self.width, "m")
+        check_positive("sensor.element.height", self.height, "m")
+        if self.polarity not in (1, -1):
+            raise DesignError("sensor.element.polarity", self.polarity, "+1 or -1")
+
+    @property
+    def area(self) -> float:
+        """Element area [m²]."""
+        return self.width * self.height
+
+
+def dual_elements(width=1e-3, height=2e-3, spacing=2e-3):
+    """Two opposed elements side by side, centre-to-centre ``spacing`` apart [m]."""
+    check_positive("sensor.element_width", width, "m")
+    if check_positive("sensor.element_spacing", spacing, "m") < width:
+        raise DesignError(
+            "sensor.element_spacing", spacing, f"at least the element width {width} m"
+        )
+    return (
+        SensingElement(spacing / 2, 0.0, width, height, +1),
+        SensingElement(-spacing / 2, 0.0, width, height, -1),
+    )
+
+
+def quad_elements(width=1e-3, height=1e-3, spacing=2e-3):
+    """Four elements on a square grid with checkerboard polarity (two opposed pairs)."""
+    s = check_positive("sensor.element_spacing", spacing, "m") / 2
+    return tuple(
+        SensingElement(x, y, width, height, pol)
+        for x, y, pol in ((s, s, 1), (-s, s, -1), (-s, -s, 1), (s, -s, -1))
+    )
+
+
+def single_element(width=2e-3, height=1e-3):
+    """One element at the centre (for characterisation)."""
+    return (SensingElement(0.0, 0.0, width, height, +1),)
+
+
+@dataclass(frozen=True)
+class PyroSensor:
+    """A pyroelectric sensor reduced to the quantities its response depends on.
+
+    Build it with :meth:`from_material` (material + geometry) or :meth:`from_datasheet`
+    (responsivity and time constants); both give this one model.
+
+    Attributes
+    ----------
+    elements : tuple of SensingElement
+        Element geometry and polarity.
+    current_responsivity : float
+        High-frequency current responsivity of one element, η p A / H [A W⁻¹].
+    thermal_time_constant : float
+        τ_T = H/G [s].
+    element_capacitance : float
+        Capacitance of one element [F].
+    gate_resistance : float
+        R_G [Ω].
+    input_capacitance : float
+        JFET gate capacitance in parallel with the elements [F].
+    connection : {"series", "parallel", "single"}
+        Element wiring.
+    mismatch : float
+        (R_+ − R_−)/R_mean of the opposed elements.
+    loss_tangent : float
+        tan δ of the element dielectric (noise).
+    heat_capacity : float or None
+        Heat capacity of one element H [J K⁻¹] (temperature-fluctuation noise), if known.
+    band : tuple of float
+        Optical pass band of the window (λ1, λ2) [m].
+    window_transmittance : float
+        In-band window transmittance.
+    """
+
+    elements: tuple[SensingElement, ...]
+    current_responsivity: float
+    thermal_time_constant: float
+    element_capacitance: float
+    gate_resistance: float
+    input_capacitance: float = 3e-12
+    connection: str = "series"
+    mismatch: float = 0.0
+    loss_tangent: float = 0.005
+    heat_capacity: float | None = None
+    band: tuple[float, float] = (5e-6, 14e-6)
+    window_transmittance: float = 0.75
+
+    def __post_init__(self):
+        if not self.elements:
+            raise DesignError("sensor.elements", self.elements, "at least one element")
+        object.__setattr__(self, "elements", tuple(self.elements))
+        check_choice("sensor.connection", self.connection, ("series", "parallel", "single"))
+        n = len(self.elements)
+        if self.connection == "single" and n != 1:
+            raise DesignError(
+                "sensor.connection", self.connection, "'single' with exactly one element"
+            )
+        if self.connection == "series" and n % 2:
+            raise DesignError("sensor.elements", n, "an even number of elements for series pairs")
+        check_positive("sensor.current_responsivity", self.current_responsivity, "A/W")
+        check_positive("sensor.thermal_time_constant", self.thermal_time_constant, "s")
+        check_positive("sensor.element_capacitance", self.element_capacitance, "F")
+        check_positive("sensor.gate_resistance", self.gate_resistance, "Ω")
+        check_range("sensor.input_capacitance", self.input_capacitance, 0.0, 1e-9, "F")
+        check_range("sensor.mismatch", self.mismatch, -1.0, 1.0)
+        check_range("sensor.loss_tangent", self.loss_tangent, 0.0, 1.0)
+        check_range("sensor.window_transmittance", self.window_transmittance, 0.0, 1.0)
+        if self.heat_capacity is not None:
+            check_positive("sensor.heat_capacity", self.heat_capacity, "J/K")
+
+    # -- construction routes ------------------------------------------------------------
+    @classmethod
+    def from_material(
+        cls,
+        material="LiTaO3",
+        elements=None,
+        thickness=25e-6,
+        absorptance=0.8,
+        thermal_time_constant=None,
+        thermal_conductance=None,
+        gate_resistance=50e9,
+        **kw,
+    ):
+        """Sensor from material constants and element geometry.
+
+        Parameters
+        ----------
+        material : str or PyroMaterial
+            A key of :data:`MATERIALS` or a material.
+        elements : tuple of SensingElement, optional
+            Default: :func:`dual_elements`.
+        thickness : float
+            Element thickness d [m].
+        absorptance : float
+            η, fraction of incident power absorbed.
+        thermal_time_constant, thermal_conductance : float
+            Give exactly one: τ_T [s] or G [W K⁻¹].
+        gate_resistance : float
+            R_G [Ω].
+        **kw
+            Other :class:`PyroSensor` fields (connection, mismatch, input_capacitance, …).
+        """
+        mat = (
+            MATERIALS[check_choice("sensor.material", material, MATERIALS)]
+            if isinstance(material, str)
+            else material
+        )
+        elements = dual_elements() if elements is None else tuple(elements)
+        d = check_positive("sensor.thickness", thickness, "m")
+        eta = check_range("sensor.absorptance", absorptance, 1e-6, 1.0)
+        area = elements[0].area
+        heat_cap = mat.heat_capacity * area * d
+        if (thermal_time_constant is None) == (thermal_conductance is None):
+            raise DesignError(
+                "sensor.thermal_time_constant",
+                thermal_time_constant,
+                "exactly one of thermal_time_constant or thermal_conductance",
+            )
+        tau_t = (
+            heat_cap / check_positive("sensor.thermal_conductance", thermal_conductance, "W/K")
+            if thermal_time_constant is None
+            else check_positive("sensor.thermal_time_constant", thermal_time_constant, "s")
+        )
+        return cls(
+            elements=elements,
+            current_responsivity=eta * mat.pyro_coefficient / (mat.heat_capacity * d),
+            thermal_time_constant=tau_t,
+            element_capacitance=EPS0 * mat.permittivity * area / d,
+            gate_resistance=gate_resistance,
+            loss_tangent=mat.loss_tangent,
+            heat_capacity=heat_cap,
+            **kw,
+        )
+
+    @classmethod
+    def from_datasheet(
+        cls,
+        responsivity,
+        thermal_time_constant,
+        electrical_time_constant,
+        element_capacitance=30e-12,
+        reference_frequency=1.0,
+        elements=None,
+        **kw,
+    ):
+        """Sensor from datasheet-style figures.
+
+        Parameters
+        ----------
+        responsivity : float
+            |R_V| of one lit element at ``reference_frequency``, as the packaged sensor is
+            wired [V W⁻¹].
+        thermal_time_constant, electrical_time_constant : float
+            τ_T and τ_E [s].
+        element_capacitance : float
+            Capacitance of one element [F].
+        reference_frequency : float
+            Frequency of the responsivity figure [Hz] (1 Hz is common practice).
+        """
+        elements = dual_elements() if elements is None else tuple(elements)
+        probe = cls(elements, 1.0, thermal_time_constant, element_capacitance, 1.0, **kw)
+        r_g = (
+            check_positive("sensor.electrical_time_constant", electrical_time_constant, "s")
+            / probe.gate_capacitance
+        )
+        unit = replace(probe, gate_resistance=r_g)
+        rv_unit = abs(
+            unit.responsivity(
+                check_positive("sensor.reference_frequency", reference_frequency, "Hz")
+            )
+        )
+        return replace(
+            unit,
+            current_responsivity=check_positive("sensor.responsivity", responsivity, "V/W")
+            / rv_unit,
+        )
+
+    # -- derived quantities -------------------------------------------------------------
+    @property
+    def gate_capacitance(self) -> float:
+        """Total capacitance at the gate node [F]."""
+        n, c = len(self.elements), self.element_capacitance
+        c_el = {"series": n * c / 4.0, "parallel": n * c, "single": c}[self.connection]
+        return c_el + self.input_capacitance
+
+    @property
+    def electrical_time_constant(self) -> float:
+        """τ_E = R_G C_gate [s]."""
+        return self.gate_resistance * self.gate_capacitance
+
+    @property
+    def share(self) -> float:
+        """Fraction of one element's current that reaches the gate node."""
+        return 0.5 if self.connection == "series" else 1.0
+
+    @property
+    def coupling(self) -> np.ndarray:
+        """Weight of each element's power in the equivalent gate source P_eq = Σ c_k P_k."""
+        pol = np.array([e.polarity for e in self.elements], dtype=float)
+        return self.share * pol * (1.0 + pol * self.mismatch / 2.0)
+
+    def responsivity(self, frequency, element: int = 0):
+        """Complex voltage responsivity of one lit element [V W⁻¹].
+
+        Parameters
+        ----------
+        frequency : array_like
+            Frequency [Hz].
+        element : int
+            Which element is lit (its polarity and mismatch apply).
+        """
+        s = 2j * math.pi * np.asarray(frequency, dtype=float)
+        return self.coupling[element] * self._h(s)
+
+    def _h(self, s):
+        tt, te = self.thermal_time_constant, self.electrical_time_constant
+        return (
+            self.current_responsivity
+            * tt
+            * s
+            * self.gate_resistance
+            / ((1 + s * tt) * (1 + s * te))
+        )
+
+    @property
+    def peak_frequency(self) -> float:
+        """Frequency of maximum |R_V|, 1/(2π √(τ_T τ_E)) [Hz]."""
+        return 1.0 / (
+            2 * math.pi * math.sqrt(self.thermal_time_constant * self.electrical_time_constant)
+        )
+
+    def transfer_function(self) -> control.TransferFunction:
+        """V_gate(s) / P_eq(s) as a python-control transfer function [V W⁻¹]."""
+        tt, te = self.thermal_time_constant, self.electrical_time_constant
+        k = self.current_responsivity * tt * self.gate_resistance
+        return control.tf([k, 0.0], np.polymul([tt, 1.0], [te, 1.0]))
+
+    def sos(self, sample_rate: float) -> np.ndarray:
+        """Discrete second-order sections of V_gate/P_eq (bilinear transform)."""
+        fs = check_positive("sample_rate", sample_rate, "Hz")
+        tt, te = self.thermal_time_constant, self.electrical_time_constant
+        k = self.current_responsivity * self.gate_resistance / te
+        z, p, g = signal.bilinear_zpk([0.0], [-1.0 / tt, -1.0 / te], k, fs)
+        return signal.zpk2sos(z, p, g)
+
+    def current_sos(self, sample_rate: float) -> np.ndarray:
+        """Sections of the gate-source current i_eq / P_eq = R_I τ_T s / (1 + s τ_T) [A W⁻¹]."""
+        fs = check_positive("sample_rate", sample_rate, "Hz")
+        tt = self.thermal_time_constant
+        z, p, g = signal.bilinear_zpk([0.0], [-1.0 / tt], self.current_responsivity, fs)
+        return signal.zpk2sos(z, p, g)
+
+
+def gate_current(sensor: PyroSensor, p_eq, sample_rate: float, steady_start: bool = True):
+    """Equivalent pyroelectric current into the gate node [A], shape of ``p_eq``.
+
+    The source that drives R_G ∥ C_gate, as exported to SPICE (the chain's own pass computes
+    the gate voltage directly, :func:`pirchain.kernels.sensor.gate_walk`).
+
+    Parameters
+    ----------
+    sensor : PyroSensor
+    p_eq : array_like, shape (..., samples)
+        Equivalent gate power Σ c_k P_k [W] (the ``equivalent_power`` tap of a chain run).
+    sample_rate : float
+        [Hz].
+    steady_start : bool
+        Treat the first sample's power as having been there for ever.
+    """
+    p_eq = np.asarray(p_eq, dtype=float)
+    if steady_start:
+        p_eq = p_eq - p_eq[..., :1]
+    return signal.sosfilt(sensor.current_sos(sample_rate), p_eq, axis=-1)
