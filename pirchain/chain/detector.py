@@ -140,6 +140,7 @@ class Detector:
         -------
         ChainRun
         """
+        self.require_analog()
         self.check_sampling(walks)
         self.window()  # warns if the rest level is outside the window
         chain = self.compile(walks.sample_rate, walks.n_samples)
@@ -158,6 +159,7 @@ class Detector:
 
         See :meth:`pirchain.chain.engine.CompiledChain.drive`; ``sample_rate`` [Hz].
         """
+        self.require_analog()
         self.window()
         sig = np.atleast_2d(np.asarray(signal, dtype=float))
         chain = self.compile(sample_rate, sig.shape[-1])
