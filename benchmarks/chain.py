@@ -17,10 +17,10 @@ import time
 
 import numpy as np
 
-from pirchain.demo import demo_detector, demo_environment
-from pirchain.netlist import run_ngspice
-from pirchain.scene import adult, tangential_path, walks_from_paths
-from pirchain.sensor import gate_current
+from pirchain.interface.demo import demo_detector, demo_environment
+from pirchain.circuit.netlist import run_ngspice
+from pirchain.physics.scene import adult, tangential_path, walks_from_paths
+from pirchain.physics.sensor import gate_current
 
 
 def main() -> None:

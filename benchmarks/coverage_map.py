@@ -18,9 +18,9 @@ import numpy as np
 from scipy import signal
 
 from pirchain.analysis.coverage import top_view
-from pirchain.demo import demo_detector, demo_environment
-from pirchain.scene import adult
-from pirchain.synthesis import tf_sos
+from pirchain.interface.demo import demo_detector, demo_environment
+from pirchain.physics.scene import adult
+from pirchain.circuit.synthesis import tf_sos
 
 
 def main() -> None:

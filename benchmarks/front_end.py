@@ -13,8 +13,8 @@ import time
 import numpy as np
 from scipy import signal
 
-from pirchain.demo import demo_detector, demo_environment
-from pirchain.scene import adult, straight_walks
+from pirchain.interface.demo import demo_detector, demo_environment
+from pirchain.physics.scene import adult, straight_walks
 
 
 def main() -> None:

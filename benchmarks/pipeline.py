@@ -19,9 +19,9 @@ import numba
 import numpy as np
 from scipy import signal
 
-from pirchain.demo import demo_detector, demo_environment
+from pirchain.interface.demo import demo_detector, demo_environment
 from pirchain.saturation import stage_sos
-from pirchain.scene import adult, straight_walks
+from pirchain.physics.scene import adult, straight_walks
 
 
 def walks(n, seed=1, rate=100.0):

@@ -12,11 +12,11 @@ from __future__ import annotations
 import dataclasses
 import warnings
 
-from pirchain.comparator import LadderWindow, WindowComparator
-from pirchain.demo import demo_detector
+from pirchain.circuit.comparator import LadderWindow, WindowComparator
+from pirchain.interface.demo import demo_detector
 from pirchain.errors import ValidityWarning
 from pirchain.frontend import OpAmp
-from pirchain.supply import PowerSupply
+from pirchain.circuit.supply import PowerSupply
 
 BUDGET = 30e-6
 

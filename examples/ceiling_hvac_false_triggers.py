@@ -18,10 +18,10 @@ from pirchain.analysis.false_triggers import (
     threshold_for_rate,
     with_threshold,
 )
-from pirchain.demo import demo_detector, demo_environment
-from pirchain.disturbance import Draught
-from pirchain.noise import noise_budget
-from pirchain.optics import LensRing, Mount, ceiling_lens
+from pirchain.interface.demo import demo_detector, demo_environment
+from pirchain.physics.disturbance import Draught
+from pirchain.circuit.noise import noise_budget
+from pirchain.physics.optics import LensRing, Mount, ceiling_lens
 
 
 def plover():

@@ -10,8 +10,8 @@ from __future__ import annotations
 import dataclasses
 
 from pirchain.analysis.detection_range import detection_range
-from pirchain.demo import demo_detector, demo_environment
-from pirchain.scene import adult
+from pirchain.interface.demo import demo_detector, demo_environment
+from pirchain.physics.scene import adult
 
 VALUES = (100e3, 220e3, 470e3, 1e6)
 

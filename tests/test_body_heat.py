@@ -3,7 +3,7 @@
 import numpy as np
 import pytest
 
-from pirchain.body_heat import clothing_surface_temperature_c, skin_temperature_c
+from pirchain.physics.body_heat import clothing_surface_temperature_c, skin_temperature_c
 
 
 def test_fanger_skin_temperature():

@@ -6,10 +6,10 @@ import dataclasses
 import numpy as np
 import pytest
 
-from pirchain.demo import demo_detector, demo_environment
+from pirchain.interface.demo import demo_detector, demo_environment
 from pirchain.errors import ValidityWarning
-from pirchain.scene import adult, tangential_path, walks_from_paths
-from pirchain.supply import PowerSupply
+from pirchain.physics.scene import adult, tangential_path, walks_from_paths
+from pirchain.circuit.supply import PowerSupply
 
 
 def test_supply_budget_per_part_and_sum():
@@ -48,7 +48,7 @@ def test_detection_near_but_not_far():
     res = det.simulate(adult(), demo_environment(), walks_from_paths(paths, 10.0, 100.0))
     np.testing.assert_array_equal(res.detected, [True, True, False])
     # the comparator input of the far walk stays inside the window
-    far = res.analog.comparator_input[2]
+    far = res.comparator_input[2]
     assert np.all((far > res.window[0]) & (far < res.window[1]))
 
 
@@ -64,11 +64,11 @@ def test_chain_transfer_function_is_product_of_stages():
 
 def test_minor_motion_arm_end_to_end():
     # NEMA WD 7 minor-motion target (76 × 76 × 381 mm arm, 90°/s) in front of the demo unit:
-    # a stationary person's swinging arm alone triggers it at 3 m (array optics path)
-    from pirchain.scene import Path, minor_motion_arm
+    # a stationary person's swinging arm alone triggers it at 3 m
+    from pirchain.physics.scene import Path, minor_motion_arm
 
     det = demo_detector()
     walks = walks_from_paths([Path(((3.0, 0.0),), 1.0), Path(((40.0, 0.0),), 1.0)], 6.0, 100.0)
     res = det.simulate(minor_motion_arm(), demo_environment(), walks)
     np.testing.assert_array_equal(res.detected, [True, False])
-    assert np.all(np.isfinite(res.front.gate_voltage))
+    assert np.all(np.isfinite(res.gate_voltage))

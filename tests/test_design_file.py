@@ -7,9 +7,9 @@ import sys
 
 import pytest
 
-from pirchain.cli import EXIT_DESIGN, main
-from pirchain.demo_text import DEMO_TOML
-from pirchain.design_file import loads
+from pirchain.interface.cli import EXIT_DESIGN, main
+from pirchain.interface.demo_text import DEMO_TOML
+from pirchain.interface.design_file import loads
 from pirchain.errors import DesignError
 from pirchain.units import format_eng, parse_celsius, parse_quantity
 

@@ -11,13 +11,13 @@ import warnings
 import numpy as np
 import pytest
 
-from pirchain.cli import main
-from pirchain.demo import demo_detector, demo_environment
-from pirchain.demo_text import DEMO_TOML
+from pirchain.interface.cli import main
+from pirchain.interface.demo import demo_detector, demo_environment
+from pirchain.interface.demo_text import DEMO_TOML
 from pirchain.errors import DesignError, ValidityWarning
-from pirchain.output import write_new
-from pirchain.scene import adult, radial_path, tangential_path, walks_from_paths
-from pirchain.sensor import PyroSensor
+from pirchain.interface.output import write_new
+from pirchain.physics.scene import adult, radial_path, tangential_path, walks_from_paths
+from pirchain.physics.sensor import PyroSensor
 
 ENV = demo_environment()
 

@@ -1,6 +1,6 @@
 """Front end: stage transfer functions against python-control's interconnection of the same
 elements and the textbook formulas (Horowitz & Hill), the JFET follower against the
-Shockley square law worked example (Sedra & Smith; numbers in REFERENCES.md, derived)."""
+Shockley square law worked example (Sedra & Smith; numbers derived from that law, docs/validation.md)."""
 
 import math
 
@@ -9,17 +9,18 @@ import numpy as np
 import pytest
 
 from pirchain.errors import DesignError
-from pirchain.frontend import (
-    InvertingBandPass,
-    Jfet,
-    NonInvertingBandPass,
-    OpAmp,
-    RCHighPass,
-    RCLowPass,
-    SourceFollower,
-    TransferStage,
-)
-from pirchain.saturation import piecewise, run_stage
+import dataclasses
+
+import oracles
+from scipy import signal
+
+from pirchain.circuit.comparator import FixedWindow, WindowComparator
+from pirchain.circuit.follower import Jfet, SourceFollower
+from pirchain.circuit.opamp import OpAmp
+from pirchain.circuit.opamp_stages import InvertingBandPass, NonInvertingBandPass
+from pirchain.circuit.passive_stages import RCHighPass, RCLowPass
+from pirchain.circuit.transfer_stage import TransferStage
+from pirchain.interface.demo import demo_detector
 
 FREQS = np.geomspace(0.01, 1e4, 60)
 AMP = OpAmp(gbw=1e6, v_low=0.0, v_high=3.3, open_loop_gain=2e5)
@@ -102,14 +103,21 @@ def test_jfet_worked_example():
     assert f.output_impedance == pytest.approx(1 / (1 / 47e3 + f.transconductance), rel=1e-12)
     # the large-signal curve obeys the square law exactly and its slope is the gain
     vg = np.linspace(-0.05, 0.05, 11)
-    vs = f.source_voltage(vg)
+    vs = np.array([f.source_voltage(x) for x in vg])
     np.testing.assert_allclose(vs / 47e3, 0.5e-3 * (1 + (vg - vs) / 1.5) ** 2, rtol=1e-12)
     slope = (f.source_voltage(1e-6) - f.source_voltage(-1e-6)) / 2e-6
     assert slope == pytest.approx(f.gain, rel=1e-6)
 
 
-def test_linear_and_piecewise_paths_agree_without_saturation():
-    # Trapezoidal integration of the state equations is the bilinear transform of H(s).
+def one_stage(stage):
+    det = dataclasses.replace(demo_detector(), stages=(stage,))
+    rest = det.rest_levels()[-1]
+    return dataclasses.replace(det, comparator=WindowComparator(FixedWindow(rest, 0.5)))
+
+
+def test_stage_integration_is_the_bilinear_transform_without_saturation():
+    # Trapezoidal integration of the state equations is the bilinear transform of H(s):
+    # the engine's stage output equals scipy.signal.bilinear + sosfilt of the stage's H
     fs = 100.0
     t = np.arange(1500) / fs
     for st in (
@@ -118,12 +126,17 @@ def test_linear_and_piecewise_paths_agree_without_saturation():
         RCHighPass(1e6, 1e-6, 1.0),
         RCLowPass(1e5, 1e-6),
         TransferStage((0.0, 2.0, 0.0), (0.01, 1.1, 1.0), 1.0),
+        TransferStage((0.0, 0.0, 40.0, 0.0), (3.2e-5, 0.0248, 3.0216, 1.0), 1.0),
     ):
-        u = (1.2 + 2e-3 * np.sin(2 * math.pi * 1.3 * t) * (t > 1))[None, :]
-        fast = run_stage(st, u, fs)
-        exact, pinned = piecewise(st, u, fs, st.steady_state(1.2)[None, :])
-        np.testing.assert_allclose(fast.output, exact, atol=1e-11)
-        assert not pinned.any()
+        gate = (2e-3 * np.sin(2 * math.pi * 1.3 * t) * (t > 1))[None, :]
+        run = one_stage(st).drive("gate", gate, fs, ("source", "stages"))
+        u = run.source_voltage
+        tf = st.transfer_function()
+        bz, az = signal.bilinear(tf.num[0][0], tf.den[0][0], fs)
+        h0 = float(np.real(tf(0.0)))
+        ref = st.v_ref + h0 * (u[:, :1] - st.v_ref) + signal.lfilter(bz, az, u - u[:, :1])
+        np.testing.assert_allclose(run.stage_outputs[0], ref, atol=1e-10)
+        assert not run.pinned[0].any()
 
 
 def test_pinned_stage_recovers_through_the_feedback_resistor():
@@ -145,12 +158,13 @@ def test_bad_stage_values_name_the_field():
         TransferStage((1.0,), (1.0, -1.0))
 
 
-def test_compiled_piecewise_equals_array_version():
-    # the same equations in machine code: outputs to 1e-11 V and identical rail flags,
-    # through hard saturation both ways (rail-to-rail in a step included)
+def test_hard_saturation_both_ways_equals_the_oracle():
+    # rail to rail within a step included, from discharged capacitors: the engine's pass
+    # against the oracle's whole-state trapezoidal integration (tests/oracles.py), 1e-9 V
+    # and identical rail flags
     rng = np.random.default_rng(0)
     t = np.arange(2000) / 100.0
-    u = 1.0 + rng.uniform(0, 1.5, (40, 1)) * np.sin(2 * math.pi * rng.uniform(0.2, 30, (40, 1)) * t)
+    gate = rng.uniform(0, 0.4, (40, 1)) * np.sin(2 * math.pi * rng.uniform(0.2, 30, (40, 1)) * t)
     stages = (
         NonInvertingBandPass(10e3, 22e-6, 560e3, 27e-9, AMP),
         InvertingBandPass(22e3, 10e-6, 1e6, 15e-9, AMP, 1.65),
@@ -158,8 +172,12 @@ def test_compiled_piecewise_equals_array_version():
         RCHighPass(1e5, 1e-6),
     )
     for st in stages:
-        x0 = np.zeros((40, st.state_model().A.shape[0]))
-        a, pa = piecewise(st, u, 100.0, x0, compiled=True)
-        b, pb = piecewise(st, u, 100.0, x0, compiled=False)
-        np.testing.assert_allclose(a, b, atol=1e-11)
-        np.testing.assert_array_equal(pa, pb)
+        run = one_stage(st).drive(
+            "gate", gate, 100.0, ("source", "stages"), start="discharged"
+        )
+        n = st.state_model().A.shape[0]
+        ref, pins = oracles.piecewise(st, run.source_voltage, 100.0, np.zeros((40, n)))
+        np.testing.assert_allclose(run.stage_outputs[0], ref, atol=1e-9)
+        np.testing.assert_array_equal(run.pinned[0], pins)
+        if st.opamp is not None:
+            assert pins.any() and not pins.all()

@@ -8,9 +8,9 @@ import random
 
 import pytest
 
-from pirchain.cli import main
-from pirchain.demo_text import DEMO_TOML
-from pirchain.design_file import loads
+from pirchain.interface.cli import main
+from pirchain.interface.demo_text import DEMO_TOML
+from pirchain.interface.design_file import loads
 from pirchain.errors import DesignError
 
 JUNK = [

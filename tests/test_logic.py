@@ -1,13 +1,17 @@
-"""Decision logic on constructed waveforms. The rules are those of REFERENCES.md "typical
-logic" (common practice: pulse count 1–4 within 2–10 s, blanking, retriggerable hold,
-re-arm lockout, daylight inhibit with hysteresis); the ladder is Ohm's law."""
+"""Decision logic on constructed waveforms driven into the chain at the comparator input.
+The rules are those of common practice for occupancy and intrusion detectors (pulse count
+1–4 within 2–10 s, blanking, retriggerable hold, re-arm lockout, daylight inhibit with
+hysteresis); the ladder is Ohm's law."""
 
 import numpy as np
 import pytest
 
-from pirchain.comparator import FixedWindow, LadderWindow, MappedWindow, WindowComparator
+import dataclasses
+
+from pirchain.circuit.comparator import FixedWindow, LadderWindow, MappedWindow, WindowComparator
 from pirchain.errors import DesignError
-from pirchain.logic import DaylightInhibit, PulseLogic, decide, find_pulses, run_logic
+from pirchain.interface.demo import demo_detector
+from pirchain.logic.rules import DaylightInhibit, PulseLogic
 
 FS = 100.0
 CENTRE, TH = 1.65, 0.3
@@ -23,10 +27,15 @@ def wave(pulses, duration=30.0, width=0.2, amp=0.5):
     return v
 
 
+def drive(v, logic, comp=COMP, lux=None):
+    """The chain run from its comparator input ``v`` (walks, samples) with these rules."""
+    det = dataclasses.replace(demo_detector(), comparator=comp, logic=logic)
+    return det.drive("comparator", np.atleast_2d(v), FS, ("events",), lux=lux)
+
+
 def run(v, **kw):
     logic = PulseLogic(**{"rate": 50.0, "blanking": 0.0, "lockout": 0.0, **kw})
-    _, dec = run_logic(v[None, :], FS, COMP, logic)
-    return dec[0]
+    return drive(v, logic).decisions[0]
 
 
 def test_ladder_window_formula():
@@ -41,7 +50,7 @@ def test_ladder_window_formula():
 
 def test_pulses_found_with_sign_and_peak():
     v = wave([(1.0, 1), (3.0, -1), (5.0, 1)], amp=0.6)
-    p = find_pulses(v[None, :], np.arange(v.size) / FS, COMP)
+    p = drive(v, PulseLogic(rate=FS)).pulses
     np.testing.assert_allclose(p.start, [1.0, 3.0, 5.0])
     np.testing.assert_allclose(p.end, [1.2, 3.2, 5.2], atol=1e-9)
     np.testing.assert_array_equal(p.sign, [1, -1, 1])
@@ -100,20 +109,32 @@ def test_single_pulse_alarm_above_k_threshold():
 
 
 def test_daylight_inhibit_with_hysteresis():
+    # a pulse every 0.2 s, each turning the output on for 0.05 s unless inhibited, while
+    # the light rises from 10 to 2000 lux and falls back: turn-ons stop where the sense
+    # node passes v_on and resume where it falls below v_on − hysteresis
     day = DaylightInhibit(3.3, 100e3, 1e6, 0.7, v_on=1.65, hysteresis=0.3)
-    lux = np.concatenate([np.linspace(10, 2000, 100), np.linspace(2000, 10, 100)])
-    state = day.inhibited(lux)
-    v = day.node_voltage(lux)
-    on_at = v[np.argmax(state)]
-    off_at = v[100 + np.argmin(state[100:])]
-    assert on_at > 1.65 and off_at < 1.35
-    assert on_at - off_at == pytest.approx(0.3, abs=0.05)  # hysteresis band
-    # the logic: a pulse while inhibited does not turn the output on
+    logic = PulseLogic(rate=50.0, pulses_required=1, blanking=0.0, hold=0.05, lockout=0.0,
+                       daylight=day)  # fmt: skip
+    t = np.arange(int(40 * FS)) / FS
+    v = np.where((t % 0.2) < 0.1, CENTRE + 0.5, CENTRE)
+    ticks = np.arange(2000) / 50.0  # 4000 analog samples: ticks 0 … 39.98 s
+    lux = np.where(ticks < 20, 10 + 99.5 * ticks, 10 + 99.5 * (40 - ticks))
+    ons = np.array([a for a, _ in drive(v, logic, lux=lux).decisions[0].on_intervals])
+    gap = np.argmax(np.diff(ons))
+
+    def node(time):  # sense-node voltage at a pulse start (a tick)
+        return day.node_voltage(lux[int(round(time * 50.0))])
+
+    # the last pulse let through was read at or below v_on, the next one above it ...
+    assert node(ons[gap]) <= 1.65 < node(ons[gap] + 0.2)
+    # ... and the first let through again below v_on − hysteresis, the one before not
+    assert node(ons[gap + 1]) < 1.35 <= node(ons[gap + 1] - 0.2)
+    assert 0 < ons[gap] < 20 < ons[gap + 1] < 40  # inhibited around the bright middle
+    # a pulse while inhibited does not turn the output on
     logic = PulseLogic(rate=50.0, pulses_required=1, blanking=0.0, lockout=0.0, daylight=day)
-    v = wave([(1.0, 1)])
-    _, bright = run_logic(v[None, :], FS, COMP, logic, lux=2000.0)
-    _, dark = run_logic(v[None, :], FS, COMP, logic, lux=5.0)
-    assert not bright[0].detected and dark[0].detected
+    one = wave([(1.0, 1)])
+    assert not drive(one, logic, lux=2000.0).detected[0]
+    assert drive(one, logic, lux=5.0).detected[0]
 
 
 def test_comparator_hysteresis_counts_one_pulse():
@@ -121,26 +142,29 @@ def test_comparator_hysteresis_counts_one_pulse():
     noisy = CENTRE + TH + 0.01 * np.sign(np.sin(2 * np.pi * 7 * t)) * (t > 2) * (t < 4)
     no_h = WindowComparator(FixedWindow(CENTRE, TH), 0.0)
     with_h = WindowComparator(FixedWindow(CENTRE, TH), 0.02)
-    assert find_pulses(noisy[None, :], t, no_h).start.size == 14
-    assert find_pulses(noisy[None, :], t, with_h).start.size == 1
+    logic = PulseLogic(rate=FS)
+    assert drive(noisy, logic, no_h).outcomes.pulses[0] == 14
+    assert drive(noisy, logic, with_h).outcomes.pulses[0] == 1
 
 
 def test_logic_rate_sampling():
     v = wave([(1.013, 1), (2.507, -1)])
     for rate in (20.0, 50.0, 1000.0):
         logic = PulseLogic(rate=rate, pulses_required=2, blanking=0.0, lockout=0.0)
-        p, d = run_logic(v[None, :], FS, COMP, logic)
+        r = drive(v, logic)
+        p = r.pulses
         # a sampled detector sees each crossing at its next tick
         assert np.all(p.start >= [1.01, 2.5]) and np.all(p.start - [1.013, 2.507] < 1 / rate + 0.01)
-        assert d[0].detected
+        assert r.decisions[0].detected
 
 
 def test_batch_equals_single_walks():
     a, b = wave([(1.0, 1), (2.0, -1)]), wave([(5.0, -1)])
     logic = PulseLogic(rate=50.0, pulses_required=2, blanking=0.0)
-    p, dec = run_logic(np.stack([a, b]), FS, COMP, logic)
+    dec = drive(np.stack([a, b]), logic).decisions
     assert [d.detected for d in dec] == [True, False]
-    assert decide(p.of_walk(0), logic).on_intervals == dec[0].on_intervals
+    assert drive(a, logic).decisions[0].on_intervals == dec[0].on_intervals
+    assert drive(b, logic).outcomes.pulses[0] == 1
 
 
 def test_bad_logic_values_are_named():

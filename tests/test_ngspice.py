@@ -8,11 +8,11 @@ import numpy as np
 import pytest
 from scipy import signal
 
-from pirchain.chain import settling_time
-from pirchain.demo import demo_detector, demo_environment
-from pirchain.netlist import netlist, ngspice_available, run_ngspice
-from pirchain.scene import adult, tangential_path, walks_from_paths
-from pirchain.sensor import gate_current
+from pirchain.analysis.power_up import power_up, settling_time
+from pirchain.interface.demo import demo_detector, demo_environment
+from pirchain.circuit.netlist import netlist, ngspice_available, run_ngspice
+from pirchain.physics.scene import adult, tangential_path, walks_from_paths
+from pirchain.physics.sensor import gate_current
 
 FS = 100.0
 
@@ -25,26 +25,26 @@ def walk_run(distance):
     det = demo_detector()
     walks = walks_from_paths([tangential_path(distance, 0.0, 1.0, length=6.0)], 10.0, FS)
     res = det.simulate(adult(), demo_environment(), walks)
-    cur = gate_current(det.sensor, res.front.element_power, FS)[0]
+    cur = gate_current(det.sensor, res.equivalent_power, FS)[0]
     t, v = run_ngspice(det, cur, FS)
     return det, res, t, v
 
 
 def test_walk_waveform_matches_ngspice_in_linear_regime():
     det, res, t, v = walk_run(20.0)
-    assert not any(p.any() for p in res.analog.pinned), "this walk must stay linear"
+    assert not any(p.any() for p in res.pinned), "this walk must stay linear"
     n = min(t.size, res.time.size)
-    ours = res.analog.comparator_input[0, :n]
+    ours = res.comparator_input[0, :n]
     rest = det.rest_levels()[-1]
     peak = np.max(np.abs(ours - rest))
     assert peak > 0.1  # a real signal, a good fraction of the window
     # every node: gate, source, stage outputs within 1 % of the comparator-input peak
     assert np.max(np.abs(v["out2"][:n] - ours)) < 0.01 * peak
-    assert np.max(np.abs(v["out1"][:n] - res.analog.stage_outputs[0][0, :n])) < 0.01 * np.ptp(
-        res.analog.stage_outputs[0][0]
+    assert np.max(np.abs(v["out1"][:n] - res.stage_outputs[0][0, :n])) < 0.01 * np.ptp(
+        res.stage_outputs[0][0]
     )
-    assert np.max(np.abs(v["gate"][:n] - res.front.gate_voltage[0, :n])) < 0.01 * np.max(
-        np.abs(res.front.gate_voltage[0])
+    assert np.max(np.abs(v["gate"][:n] - res.gate_voltage[0, :n])) < 0.01 * np.max(
+        np.abs(res.gate_voltage[0])
     )
 
 
@@ -59,7 +59,7 @@ def test_recovery_after_rail_matches_ngspice():
         *signal.bilinear_zpk([], [-1 / s.electrical_time_constant], 1 / s.gate_capacitance, FS)
     )
     gate = signal.sosfilt(gate_sos, cur)
-    ana = det.analog(gate[None, :], FS)
+    ana = det.drive("gate", gate[None, :], FS, ("stages", "comparator"))
     assert ana.pinned[0].any() and ana.pinned[1].any(), "both stages must reach a rail"
     ts, v = run_ngspice(det, cur, FS)
     win = det.window()
@@ -71,7 +71,7 @@ def test_recovery_after_rail_matches_ngspice():
 
 def test_power_up_settling_matches_ngspice():
     det = demo_detector()
-    t, ana, settle = det.power_up(60.0, FS)
+    settle = power_up(det, 60.0, FS).settling
     ts, v = run_ngspice(det, None, FS, 60.0, power_up=True)
     theirs = settling_time(ts, v["out2"], det.window())
     assert math.isfinite(settle) and settle > 2.0

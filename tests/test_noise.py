@@ -8,8 +8,8 @@ import numpy as np
 import pytest
 from scipy import constants, signal
 
-from pirchain.demo import demo_detector, demo_environment
-from pirchain.noise import (
+from pirchain.interface.demo import demo_detector, demo_environment
+from pirchain.circuit.noise import (
     band_grid,
     band_variance,
     nep,
@@ -19,7 +19,7 @@ from pirchain.noise import (
     specific_detectivity,
     total_psd,
 )
-from pirchain.synthesis import NoiseSynthesizer, half_order_sos
+from pirchain.circuit.synthesis import NoiseSynthesizer, half_order_sos
 
 T = 295.15
 KT4 = 4 * constants.k * T
@@ -106,7 +106,7 @@ def test_stationary_start_needs_no_warm_up():
     # streams: standard error of an rms 0.5 %), and the cascade's state equations reproduce
     # scipy.signal.sosfilt's final state.
     from pirchain.analysis.false_triggers import comparator_sources
-    from pirchain.synthesis import cascade_state_space, dominant_sources
+    from pirchain.circuit.synthesis import cascade_state_space, dominant_sources
 
     src = dominant_sources(comparator_sources(demo_detector(), demo_environment()))
     assert any(s.rising for s in src)  # the half-order (dielectric loss) filter is included

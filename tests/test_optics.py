@@ -1,5 +1,6 @@
-"""Lens optics: the distance laws of radiometry (P = L A cos θ Ω; Boyd 1983) and the
-thin-lens timing of a beam-pair crossing (DESIGN.md §3.3, Born & Wolf)."""
+"""Lens optics, as the chain's pass computes them: the distance laws of radiometry
+(P = L A cos θ Ω; Boyd 1983) and the thin-lens timing of a beam-pair crossing, lobes
+d·s/(f·v) apart (Born & Wolf)."""
 
 import dataclasses
 import math
@@ -7,20 +8,16 @@ import math
 import numpy as np
 import pytest
 
-from pirchain.optics import (
-    Facet,
-    Lens,
-    LensRing,
-    Mount,
-    ceiling_lens,
-    element_power,
-    make_beams,
-    part_angles,
-)
-from pirchain.scene import BodyPart, Environment, Target, straight_walks, walks_from_paths
-from pirchain.scene import Path as WalkPath
-from pirchain.sensor import dual_elements, single_element
-from pirchain.target_pose import pose
+import warnings
+
+import oracles
+
+from pirchain.errors import ValidityWarning
+from pirchain.interface.demo import demo_detector
+from pirchain.physics.optics import Facet, Lens, LensRing, Mount, ceiling_lens, make_beams
+from pirchain.physics.scene import BodyPart, Environment, Target, straight_walks, walks_from_paths
+from pirchain.physics.scene import Path as WalkPath
+from pirchain.physics.sensor import dual_elements, single_element
 
 F = 20e-3
 ONE_FACET = Lens((Facet(0.0, 0.0, F, 1e-4, 1.0),))
@@ -32,17 +29,28 @@ def box(width, z0, z1, temp_c=30.0):
     return Target("box", (BodyPart("box", z0, z1, width, width, "fixed", 1.0, temp_c),))
 
 
+def power(target, walks, elements, lens=ONE_FACET, mount=MOUNT):
+    """Radiant power on each element, from the chain's pass (window transmittance 1)."""
+    base = demo_detector()
+    sensor = dataclasses.replace(
+        base.sensor,
+        elements=tuple(elements),
+        connection="single" if len(elements) == 1 else "series",
+        window_transmittance=1.0,
+    )
+    det = dataclasses.replace(base, lens=lens, mount=mount, sensor=sensor)
+    with warnings.catch_warnings():
+        warnings.simplefilter("ignore", ValidityWarning)
+        return det.run(target, ENV, walks, ("element_power",)).element_power
+
+
 def static_power(target, distances, elements=None, lens=ONE_FACET, mount=MOUNT, bearing=0.0):
     elements = single_element(1e-3, 2e-3) if elements is None else elements
     d = np.asarray(distances, dtype=float)
     starts = np.stack([d * math.cos(bearing), d * math.sin(bearing)], axis=1)
     heads = np.tile([[0.0, 1.0]], (len(d), 1))
     walks = straight_walks(starts, heads, 1.0, 0.02, 100.0, start_times=10.0)  # standing
-    beams = make_beams(lens, mount, elements)
-    pp = pose(target, walks)
-    ang = part_angles(pp.x, pp.y, pp.half_width, pp.z_bottom, pp.z_top, mount.height)
-    p = element_power(beams, ang, target.radiance_contrast(ENV), len(elements))
-    return p[:, 0, :], beams
+    return power(target, walks, elements, lens, mount)[:, 0, :], make_beams(lens, mount, elements)
 
 
 def test_small_target_inverse_square():
@@ -76,11 +84,7 @@ def crossing(temp_c, speed=1.0, distance=5.0, spacing=2e-3):
     target = box(0.05, 0.95, 1.05, temp_c)
     path = WalkPath(((distance, -1.5), (distance, 1.5)), speed)
     walks = walks_from_paths([path], 3.0 / speed, 500.0)
-    elements = dual_elements(1e-3, 2e-3, spacing)
-    beams = make_beams(ONE_FACET, MOUNT, elements)
-    pp = pose(target, walks)
-    ang = part_angles(pp.x, pp.y, pp.half_width, pp.z_bottom, pp.z_top, MOUNT.height)
-    p = element_power(beams, ang, target.radiance_contrast(ENV), 2)[0]
+    p = power(target, walks, dual_elements(1e-3, 2e-3, spacing))[0]
     return walks.time, p[:, 0] - p[:, 1]
 
 
@@ -139,28 +143,29 @@ def test_ceiling_ring_geometry():
     )
 
 
-def test_compiled_kernel_equals_reference_path():
-    # the fused numba kernel against the array path (same equations), 1e-12 relative
-    from pirchain.demo import demo_detector, demo_environment
-    from pirchain.scene import adult, child, small_pet
+def test_demo_and_ceiling_power_equal_the_oracle_all_round():
+    # the pass against the array oracle (tests/oracles.py; same equations), 1e-12 relative,
+    # walks all round (behind the unit and across ±180° included)
+    from pirchain.interface.demo import demo_environment
+    from pirchain.physics.scene import adult, child, small_pet
 
     det, env = demo_detector(), demo_environment()
     rng = np.random.default_rng(4)
     n = 60
     dist = rng.uniform(0.5, 25.0, n)
-    b = rng.uniform(-3.0, 3.0, n)  # all round, including behind and across ±180°
+    b = rng.uniform(-3.0, 3.0, n)
     c = np.stack([dist * np.cos(b), dist * np.sin(b)], axis=1)
     head = rng.normal(size=(n, 2))
     walks = straight_walks(c, head, rng.uniform(0.2, 3.0, n), 4.0, 50.0)
-    for tgt in (adult(), child(), small_pet()):
-        ref = det.element_power(tgt, env, walks, method="reference")
-        fast = det.element_power(tgt, env, walks)
-        assert np.abs(ref).max() > 0
-        np.testing.assert_allclose(fast, ref, rtol=1e-12, atol=1e-12 * np.abs(ref).max())
     ceil = dataclasses.replace(
         det, lens=ceiling_lens([LensRing(40.0, 12, 15e-3, 15e-6)]), mount=Mount("ceiling", 2.7)
     )
-    ref = ceil.element_power(adult(), env, walks, method="reference")
-    np.testing.assert_allclose(
-        ceil.element_power(adult(), env, walks), ref, rtol=1e-12, atol=1e-12 * np.abs(ref).max()
-    )
+    for d, tgt in ((det, adult()), (det, child()), (det, small_pet()), (ceil, adult())):
+        s = d.sensor
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", ValidityWarning)
+            fast = d.run(tgt, env, walks, ("element_power",)).element_power
+        ref = oracles.element_power(d.beams(), tgt, env, walks, d.mount.height,
+                                    len(s.elements), s.window_transmittance, s.band)  # fmt: skip
+        assert np.abs(ref).max() > 0
+        np.testing.assert_allclose(fast, ref, rtol=1e-12, atol=1e-12 * np.abs(ref).max())

@@ -12,10 +12,10 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from pirchain.frontend import NonInvertingBandPass, OpAmp
-from pirchain.optics import Facet, Lens, Mount, element_power, make_beams, part_angles
-from pirchain.radiometry import band_exitance, radiance_contrast
+from pirchain.physics.optics import Facet, Lens, Mount, element_power, make_beams, part_angles
+from pirchain.physics.radiometry import band_exitance, radiance_contrast
 from pirchain.saturation import piecewise, run_stage
-from pirchain.sensor import PyroSensor, dual_elements, gate_voltage, single_element
+from pirchain.physics.sensor import PyroSensor, dual_elements, gate_voltage, single_element
 
 FAST = settings(
     max_examples=40, deadline=None, derandomize=True, suppress_health_check=[HealthCheck.too_slow]

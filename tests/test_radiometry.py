@@ -7,7 +7,7 @@ import pytest
 from scipy import constants, integrate
 
 from pirchain.errors import DesignError
-from pirchain.radiometry import (
+from pirchain.physics.radiometry import (
     C2,
     band_exitance,
     band_exitance_derivative,

@@ -14,7 +14,6 @@ from scipy import optimize
 from pirchain.analysis.coverage import side_view, top_view
 from pirchain.analysis.detection_range import detection_range, probability_of_detection
 from pirchain.analysis.sweep import (
-    Study,
     evaluate,
     get_path,
     log_values,
@@ -23,16 +22,19 @@ from pirchain.analysis.sweep import (
     trade_off,
 )
 from pirchain.analysis.walk_tests import detect, make_walks
-from pirchain.chain import Detector
-from pirchain.comparator import FixedWindow, WindowComparator
-from pirchain.demo import demo_detector, demo_environment
+from pirchain.chain.detector import Detector
+from pirchain.circuit.comparator import FixedWindow, WindowComparator
+from pirchain.interface.demo import demo_detector, demo_environment
 from pirchain.errors import DesignError
-from pirchain.frontend import TransferStage
-from pirchain.logic import PulseLogic
-from pirchain.optics import Facet, Lens, LensTier, Mount, wall_lens
-from pirchain.radiometry import celsius_to_kelvin, radiance_contrast
-from pirchain.scene import BodyPart, Environment, Target, adult, small_pet
-from pirchain.sensor import PyroSensor, dual_elements
+from pirchain.circuit.transfer_stage import TransferStage
+from pirchain.design import Design
+from pirchain.physics.disturbance import Draught
+from pirchain.settings import AnalysisSettings as S
+from pirchain.logic.rules import PulseLogic
+from pirchain.physics.optics import Facet, Lens, LensTier, Mount, wall_lens
+from pirchain.physics.radiometry import celsius_to_kelvin, radiance_contrast
+from pirchain.physics.scene import BodyPart, Environment, Target, adult, small_pet
+from pirchain.physics.sensor import PyroSensor, dual_elements
 
 ENV = demo_environment()
 SINGLE = PulseLogic(rate=100.0, pulses_required=1, blanking=0.0, hold=1.0, lockout=0.0)
@@ -50,9 +52,9 @@ def single_pulse(det, threshold):
 
 
 def nf_range(det, target, **kw):
-    args = dict(trials=1, jitter=0.0, noise=False, d_max=40.0, step=1.0, refine=5)
+    args = dict(trials=1, noise=False, d_max=40.0, step=1.0, refine=5)
     args.update(kw)
-    return detection_range(det, target, ENV, **args).range
+    return detection_range(det, target, ENV, settings=S(**args), jitter=0.0).range
 
 
 def test_linearity_contrast_threshold_gain():
@@ -125,9 +127,9 @@ def test_inverse_square_with_flat_chain_and_small_target():
 
 def test_tangential_exceeds_radial_range():
     det = demo_detector()
-    kw = dict(trials=4, noise=False, d_max=30.0, step=1.0, refine=2)
-    tang = detection_range(det, adult(), ENV, 0.0, kind="tangential", **kw)
-    rad = detection_range(det, adult(), ENV, 0.0, kind="radial", **kw)
+    kw = S(trials=4, noise=False, d_max=30.0, step=1.0, refine=2)
+    tang = detection_range(det, adult(), ENV, 0.0, kind="tangential", settings=kw)
+    rad = detection_range(det, adult(), ENV, 0.0, kind="radial", settings=kw)
     assert tang.range > 2 * rad.range > 0
 
 
@@ -140,12 +142,8 @@ def test_range_vanishes_at_equal_temperature_and_returns():
             det,
             fixed_target(30.0),
             env,
-            trials=1,
+            settings=S(trials=1, noise=False, d_max=30.0, step=1.0, refine=2),
             jitter=0.0,
-            noise=False,
-            d_max=30.0,
-            step=1.0,
-            refine=2,
         ).range
     assert ranges[30.0] == 0.0
     assert ranges[20.0] > ranges[26.0] > ranges[29.0]
@@ -165,7 +163,7 @@ def test_pet_passes_under_high_beams():
 
 
 def test_range_monotonic_in_sensitivity_resistor():
-    st = Study(demo_detector(), ENV, trials=2, noise=False, d_max=30.0, step=1.5)
+    st = Design(demo_detector(), ENV, draught=Draught(), analysis=S(trials=2, noise=False))
     values = log_values(100e3, 1e6, 4)
     table = sweep(st, "detector.comparator.window.r_middle", values)
     th = table.column("threshold_v")
@@ -195,7 +193,8 @@ def test_out_of_band_walks_are_missed():
 
 def test_top_view_and_side_view():
     det = demo_detector()
-    m = top_view(det, adult(), ENV, "tangential", 1.22, cell=2.0, x_max=10.0, trials=2, noise=False)
+    cov = S(coverage_cell=2.0, coverage_x_max=10.0, coverage_trials=2, noise=False)
+    m = top_view(det, adult(), ENV, "tangential", cov)
     assert m.probability.shape == (m.y.size, m.x.size) and m.walks == m.x.size * m.y.size * 2
     # straight ahead at 4–8 m every walk is detected; far outside the 110° field none is
     ahead = m.probability[np.argmin(np.abs(m.y)), (m.x > 4) & (m.x < 8)]
@@ -205,11 +204,16 @@ def test_top_view_and_side_view():
 
 
 def test_paths_and_trade_off():
-    st = Study(demo_detector(), ENV, trials=2, noise=False, d_max=25.0, step=2.0)
+    st = Design(
+        demo_detector(), ENV, draught=Draught(), analysis=S(trials=2, noise=False, d_max=25.0, step=2.0)
+    )
     assert get_path(st, "detector.stages[1].rf") == 1e6
     s2 = set_path(st, "detector.stages[1].rf", 2e6)
     assert s2.detector.stages[1].rf == 2e6 and st.detector.stages[1].rf == 1e6
     assert set_path(st, "target", "child").target.name == "child"
+    assert set_path(st, "analysis.trials", 3).analysis.trials == 3
+    with pytest.raises(DesignError, match="analysis.trials"):
+        set_path(st, "analysis.trials", 0)
     with pytest.raises(DesignError, match="sweep.path"):
         get_path(st, "detector.stages[0].nonsense")
     tr = trade_off(st, "detector.comparator.window.r_middle", [60e3, 200e3, 600e3], 1.0)

@@ -6,9 +6,9 @@ import re
 import subprocess
 import sys
 
-from pirchain.cli import main
-from pirchain.demo_text import DEMO_TOML
-from pirchain.report import SECTIONS
+from pirchain.interface.cli import main
+from pirchain.interface.demo_text import DEMO_TOML
+from pirchain.interface.report import SECTIONS
 
 EVIL = "<script>alert(1)</script>"
 

@@ -7,7 +7,7 @@ import numpy as np
 import pytest
 
 from pirchain.errors import DesignError
-from pirchain.scene import (
+from pirchain.physics.scene import (
     EFFECTIVE_RADIATING_FRACTION,
     BodyPart,
     Environment,
@@ -21,7 +21,7 @@ from pirchain.scene import (
     tangential_path,
     walks_from_paths,
 )
-from pirchain.target_pose import pose
+from pirchain.physics.pose import arm_segment, projected_half_width
 
 
 def test_dubois_worked_value():
@@ -62,13 +62,16 @@ def test_contrast_shrinks_as_room_warms():
 
 
 def test_width_follows_walking_direction():
-    a = adult()
-    tang = walks_from_paths([tangential_path(5.0, 0.0, 1.0, length=0.2)], 0.1, 100.0)
-    rad = walks_from_paths([radial_path(5.0, 4.0, 0.0, 1.0)], 0.1, 100.0)
-    hw_t = pose(a, tang).half_width[0, 0]
-    hw_r = pose(a, rad).half_width[0, 0]
-    np.testing.assert_allclose(2 * hw_t, [p.width_side for p in a.parts], rtol=1e-3)
-    np.testing.assert_allclose(2 * hw_r, [p.width_front for p in a.parts], rtol=1e-12)
+    # elliptical section: the side width crossing the line of sight (ψ = 90°), the front
+    # width walking along it (ψ = 0), √((w_f cos ψ)² + (w_s sin ψ)²) between
+    for p in adult().parts:
+        a2, b2 = (p.width_front / 2) ** 2, (p.width_side / 2) ** 2
+        assert 2 * projected_half_width(a2, b2, 0.0) == pytest.approx(p.width_side, rel=1e-12)
+        assert 2 * projected_half_width(a2, b2, 1.0) == pytest.approx(p.width_front, rel=1e-12)
+        psi = math.radians(35.0)
+        expect = math.hypot(p.width_front * math.cos(psi), p.width_side * math.sin(psi))
+        w = 2 * projected_half_width(a2, b2, math.cos(psi) ** 2)
+        assert w == pytest.approx(expect, rel=1e-12)
 
 
 def test_paths_kinematics():
@@ -97,16 +100,22 @@ def test_vectorised_walks_equal_path_walks():
 
 
 def test_minor_motion_arm_swings():
-    # NEMA WD 7: 76 × 76 × 381 mm arm, pivot at 0.91 m, 90°/s (REFERENCES.md, medium)
-    arm = minor_motion_arm()
-    w = walks_from_paths([tangential_path(3.0, 0.0, 1.0, length=1e-3)], 2.0, 100.0)
-    pp = pose(arm, w)
-    top = pp.z_top.max(axis=-1)[0]
-    assert top.min() == pytest.approx(0.91 + 0.038, abs=0.01)  # horizontal at t = 0
-    assert top.max() == pytest.approx(0.91 + 0.381, abs=0.01)  # vertical after 1 s
+    # NEMA WD 7: 76 × 76 × 381 mm arm, pivot at 0.91 m, 90°/s (medium confidence)
+    arm = minor_motion_arm().swing
+    t = np.arange(201) / 100.0
+    theta = arm.angle(t)
+    seg = arm.length / arm.segments
+    top, area = [], []
+    for th in theta:
+        parts = [arm_segment((i + 0.5) * seg, seg, arm.width, th) for i in range(arm.segments)]
+        top.append(max(arm.pivot_height + rise + hh for _, _, rise, hh in parts))
+        area.append(sum(2 * hw * 2 * hh for _, hw, _, hh in parts))
+    assert min(top) == pytest.approx(0.91 + 0.038, abs=0.01)  # horizontal at t = 0
+    assert max(top) == pytest.approx(0.91 + 0.381, abs=0.01)  # vertical after 1 s
     assert np.argmax(top) == pytest.approx(100, abs=1)
-    area = (2 * pp.half_width * (pp.z_top - pp.z_bottom)).sum(axis=-1)
-    np.testing.assert_allclose(area, 0.076 * 0.381, rtol=1e-9)
+    np.testing.assert_allclose(area, 0.076 * 0.381, rtol=1e-9)  # each segment keeps its area
+    lateral = [arm_segment(0.5 * seg, seg, arm.width, th)[0] for th in (0.0, math.pi / 2)]
+    assert lateral == pytest.approx([0.5 * seg, 0.0], abs=1e-12)
 
 
 def test_bad_parts_are_named():

@@ -8,7 +8,7 @@ import pytest
 from scipy import constants
 
 from pirchain.errors import DesignError
-from pirchain.sensor import (
+from pirchain.physics.sensor import (
     MATERIALS,
     PyroSensor,
     dual_elements,

@@ -66,17 +66,15 @@ def run_walk(w, walks, parts, optics, sensor, follower, stages, logic, drive, ta
         n_out = optics.n_outputs
         acc = np.zeros((n_out, n_t))
         walk_power(walks.position[w], walks.heading[w], parts, optics, acc)
-        if n_out == 1:
+        if taps.element_power.shape[0] == 0:  # the beams summed straight into Σ c_k P_k
             sig = acc[0]
         else:  # per element: keep them, then Σ c_k P_k
             sig = np.zeros(n_t)
-            keep = taps.element_power.shape[0] > 0
             for k in range(n_out):
                 c = optics.coupling[k]
                 for t in range(n_t):
                     sig[t] += c * acc[k, t]
-                    if keep:
-                        taps.element_power[w, t, k] = acc[k, t]
+                    taps.element_power[w, t, k] = acc[k, t]
     else:
         sig = drive.signal[w].copy()
     if start <= START_EQUIVALENT_POWER:
