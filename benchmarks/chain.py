@@ -4,9 +4,10 @@ Run:  python benchmarks/chain.py [--batch N] [--distance M]
 pirchain runs the walk inside a batch of N copies (its normal use) and the time per walk is
 the batch time / N; ngspice runs the exported netlist of the same walk once. Both times
 cover the analog chain from the gate current to the comparator input (the part ngspice
-simulates). pirchain's whole chain (optics to decisions) is timed as ``Detector.outcomes``
-(one compiled pass per walk, the comparator input kept) and its waveform of the first walk
-is the one compared with ngspice; ``Detector.simulate`` (every stage's waveform kept) is
+simulates). pirchain's whole chain (optics to decisions) is timed as ``Detector.run`` with only the
+comparator input tapped (the one engine, one compiled pass per walk) and its waveform of
+the first walk is the one compared with ngspice; the analog chain alone is the same pass
+driven at the gate (``Detector.drive``), and ``Detector.simulate`` (every node tapped) is
 timed as well.
 """
 
@@ -34,7 +35,7 @@ def main() -> None:
     fs = args.rate
     walk = walks_from_paths([tangential_path(args.distance, 0.0, 1.0, length=6.0)], 10.0, fs)
     res = det.simulate(tgt, env, walk)
-    cur = gate_current(det.sensor, res.front.element_power, fs)[0]
+    cur = gate_current(det.sensor, res.equivalent_power, fs)[0]
 
     t_spice = np.inf
     for _ in range(args.repeat):
@@ -42,11 +43,12 @@ def main() -> None:
         ts, v = run_ngspice(det, cur, fs)
         t_spice = min(t_spice, time.perf_counter() - t0)
 
-    gate = np.repeat(res.front.gate_voltage, args.batch, axis=0)
+    gate = np.repeat(res.gate_voltage, args.batch, axis=0)
+    det.drive("gate", gate, fs, ("comparator",))
     t_analog = np.inf
     for _ in range(args.repeat):  # best of N: the machine's other load only adds time
         t0 = time.perf_counter()
-        det.analog(gate, fs)
+        det.drive("gate", gate, fs, ("comparator",))
         t_analog = min(t_analog, (time.perf_counter() - t0) / args.batch)
 
     batch = walks_from_paths(
@@ -56,7 +58,7 @@ def main() -> None:
     t_full = np.inf
     for _ in range(args.repeat):
         t0 = time.perf_counter()
-        out = det.outcomes(tgt, env, batch, keep_waveform=True)
+        out = det.run(tgt, env, batch, ("comparator",))
         t_full = min(t_full, (time.perf_counter() - t0) / args.batch)
     t_sim = np.inf
     for _ in range(args.repeat):

@@ -3,9 +3,10 @@ and the same number of second-order sections.
 
 Run:  python benchmarks/pipeline.py [--walks N] [--threads K] [--repeat R]
 Pipeline: pose + radiometry + optics + sensor + JFET + stages (rails) + comparator + logic,
-timed two ways: ``Detector.outcomes`` (one compiled pass per walk, per-walk outcomes: what
-range, coverage and sweep studies use) and ``Detector.simulate`` (every stage's waveform
-kept; ``--method reference`` puts the array optics in it).
+timed two ways through the one engine: ``Detector.outcomes`` (no node tapped: what range,
+coverage and sweep studies use) and ``Detector.simulate`` (every node tapped). With
+``--oracle`` the numpy oracles of tests/oracles.py (the array forms the package had before
+its single compiled pass) are timed too, for the profile's first row.
 Floor: one sosfilt call over (walks × samples) with the sensor's and every stage's sections
 stacked (the filtering the pipeline cannot avoid), single-threaded as scipy runs it.
 """
@@ -20,8 +21,13 @@ import numpy as np
 from scipy import signal
 
 from pirchain.interface.demo import demo_detector, demo_environment
-from pirchain.saturation import stage_sos
 from pirchain.physics.scene import adult, straight_walks
+
+
+def stage_sos(stage, fs):
+    """Bilinear sections of a stage's transfer function (its linear filtering)."""
+    tf = stage.transfer_function()
+    return signal.tf2sos(*signal.bilinear(tf.num[0][0], tf.den[0][0], fs))
 
 
 def walks(n, seed=1, rate=100.0):
@@ -37,7 +43,7 @@ def walks(n, seed=1, rate=100.0):
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__)
     ap.add_argument("--walks", type=int, default=1000)
-    ap.add_argument("--method", default="compiled", choices=("compiled", "reference"))
+    ap.add_argument("--oracle", action="store_true", help="also time the numpy oracles")
     ap.add_argument("--repeat", type=int, default=10, help="best of N timings")
     ap.add_argument("--threads", type=int, default=None, help="numba threads (default: all)")
     args = ap.parse_args()
@@ -53,11 +59,6 @@ def main() -> None:
         out = det.outcomes(tgt, env, w)
         t_out = min(t_out, time.perf_counter() - t0)
     t0 = time.perf_counter()
-    if args.method == "reference":
-        import pirchain.chain as chain_mod
-
-        orig = chain_mod.Detector.element_power
-        chain_mod.Detector.element_power = lambda self, *a, **k: orig(self, *a, method="reference")
     res = det.simulate(tgt, env, w)
     t_pipe = time.perf_counter() - t0
     for _ in range(args.repeat - 1):  # best of N
@@ -87,9 +88,20 @@ def main() -> None:
         f"ratio to floor {t_out / t_floor:.2f}"
     )
     print(
-        f"full pipeline, simulate (waveforms kept, optics {args.method}): "
+        f"full pipeline, simulate (every node tapped): "
         f"{t_pipe * 1e3:.1f} ms; ratio to floor {t_pipe / t_floor:.1f}"
     )
+    if args.oracle:
+        import os
+        import sys
+
+        sys.path.insert(0, os.path.join(os.path.dirname(__file__), "..", "tests"))
+        import oracles
+
+        t0 = time.perf_counter()
+        oracles.chain(det, tgt, env, w)
+        t_or = time.perf_counter() - t0
+        print(f"numpy oracles chained: {t_or:.2f} s; ratio to floor {t_or / t_floor:.0f}")
 
 
 if __name__ == "__main__":

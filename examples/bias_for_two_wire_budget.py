@@ -12,11 +12,12 @@ from __future__ import annotations
 import dataclasses
 import warnings
 
+from pirchain.analysis.power_up import power_up
 from pirchain.circuit.comparator import LadderWindow, WindowComparator
-from pirchain.interface.demo import demo_detector
-from pirchain.errors import ValidityWarning
-from pirchain.frontend import OpAmp
+from pirchain.circuit.opamp import OpAmp
 from pirchain.circuit.supply import PowerSupply
+from pirchain.errors import ValidityWarning
+from pirchain.interface.demo import demo_detector
 
 BUDGET = 30e-6
 
@@ -60,7 +61,7 @@ def main() -> dict:
     settle_rows = []
     for c1 in (4.7e-6, 10e-6, 22e-6, 47e-6):
         det = wren_detector(chosen_rs, c1)
-        _, _, settle = det.power_up(120.0, 50.0)
+        settle = power_up(det, 120.0, 50.0).settling
         settle_rows.append((c1, det.stages[0].low_corner, settle))
         print(
             f"C1 {c1 * 1e6:5.1f} uF: f_L {det.stages[0].low_corner:.3f} Hz, warm-up {settle:.1f} s"

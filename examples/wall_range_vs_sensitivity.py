@@ -12,31 +12,20 @@ import dataclasses
 from pirchain.analysis.detection_range import detection_range
 from pirchain.interface.demo import demo_detector, demo_environment
 from pirchain.physics.scene import adult
+from pirchain.settings import AnalysisSettings
 
 VALUES = (100e3, 220e3, 470e3, 1e6)
 
 
 def main() -> dict:
     base, env = demo_detector(), demo_environment()
+    settings = AnalysisSettings(level=0.9, d_min=1.0, d_max=30.0, step=1.0, trials=8, seed=3,
+                                refine=3)  # fmt: skip
     out = []
     for r in VALUES:
         win = dataclasses.replace(base.comparator.window, r_middle=r)
         det = dataclasses.replace(base, comparator=dataclasses.replace(base.comparator, window=win))
-        res = detection_range(
-            det,
-            adult(),
-            env,
-            0.0,
-            1.0,
-            "tangential",
-            0.9,
-            1.0,
-            30.0,
-            1.0,
-            trials=8,
-            seed=3,
-            refine=3,
-        )
+        res = detection_range(det, adult(), env, 0.0, 1.0, "tangential", settings)
         out.append((r, det.comparator.threshold, res.range, res.range_noise_free))
         print(
             f"sensitivity {r:9.0f} ohm: threshold {det.comparator.threshold:.6f} V, "

@@ -112,7 +112,7 @@ def test_no_traceback_in_a_real_process(tmp_path):
     path = tmp_path / "broken.toml"
     path.write_text(BROKEN[2][0], encoding="utf-8")
     proc = subprocess.run(
-        [sys.executable, "-m", "pirchain.cli", "check", str(path)],
+        [sys.executable, "-m", "pirchain.interface.cli", "check", str(path)],
         capture_output=True,
         text=True,
         check=False,

@@ -124,7 +124,8 @@ def test_ramp_leaks_through_mismatch_as_the_transfer_function_predicts():
     assert peak_ref > 1e-3
     d0 = dataclasses.replace(base, sensor=dataclasses.replace(base.sensor, mismatch=0.0))
     r0 = ramp_response(d0, ENV, AmbientRamp(1.0, 5.0, 600.0), 700.0, 20.0)
-    assert np.all(r0.equivalent_power == 0.0) and r0.peak_excursion == 0.0
+    # no input at all, and a response of zero to the rounding of the modal state basis
+    assert np.all(r0.equivalent_power == 0.0) and r0.peak_excursion < 1e-9
 
 
 def test_correlated_draught_without_mismatch_is_invisible():

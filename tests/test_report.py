@@ -55,7 +55,7 @@ def test_readme_main_command_writes_the_demo_report(tmp_path):
     # module's main(); run it with no arguments in an empty folder.
     def run_main():
         return subprocess.run(
-            [sys.executable, "-m", "pirchain.cli"],
+            [sys.executable, "-m", "pirchain.interface.cli"],
             cwd=tmp_path,
             capture_output=True,
             text=True,

@@ -15,7 +15,7 @@ sys.path.insert(0, HERE)
 
 from commands import COMMANDS  # noqa: E402
 
-from pirchain.cli import main  # noqa: E402
+from pirchain.interface.cli import main  # noqa: E402
 
 
 def run(args, out_dir):
