@@ -79,7 +79,9 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("-o", "--output", required=True, help="file to write")
     sp.add_argument("--force", action="store_true", help="replace an existing file")
     sp = add("walk", " Writes CSV (time and every stage) and a PNG if asked.")
-    sp.add_argument("--distance", default="8", help="distance [m] (default 8)")
+    sp.add_argument(
+        "--distance", default=None, help="distance [m] (default: the design's walk_distance)"
+    )
     sp.add_argument("--bearing", default="0", help="bearing [°] (default 0)")
     sp.add_argument("--speed", default=None, help="speed [m/s] (default: the design's)")
     sp.add_argument("--kind", choices=("tangential", "radial"), default="tangential")
@@ -173,7 +175,11 @@ def cmd_walk(args):
 
     d = _design(args)
     det = d.detector
-    dist = parse_quantity(args.distance, "--distance", "m")
+    dist = (
+        d.analysis.walk_distance
+        if args.distance is None
+        else parse_quantity(args.distance, "--distance", "m")
+    )
     bearing = parse_quantity(args.bearing, "--bearing")
     speed = d.speed if args.speed is None else parse_quantity(args.speed, "--speed")
     if dist <= 0 or speed <= 0:
