@@ -141,10 +141,11 @@ class Detector:
         ChainRun
         """
         self.require_analog()
-        self.check_sampling(walks)
         self.window()  # warns if the rest level is outside the window
         chain = self.compile(walks.sample_rate, walks.n_samples)
-        return chain.walk(target, env, walks, taps, lux, extra)
+        run = chain.walk(target, env, walks, taps, lux, extra)
+        _check_sampling(run)
+        return run
 
     def simulate(self, target, env, walks, lux=None, extra=None) -> ChainRun:
         """:meth:`run` keeping every node's waveform and every event."""
@@ -165,24 +166,15 @@ class Detector:
         chain = self.compile(sample_rate, sig.shape[-1])
         return chain.drive(node, sig, taps, lux, extra, start)
 
-    def check_sampling(self, walks) -> None:
-        """Warn when the fastest beam crossing comes near the sample rate."""
-        if walks.n_samples < 2 or walks.n_walks == 0 or walks.sample_rate <= 0:
-            return
-        k = max(1, walks.n_samples // 100)  # a speed estimate needs no more than ~100 points
-        pos = walks.position[:, ::k]
-        step = np.hypot(*np.moveaxis(np.diff(pos, axis=1), -1, 0)) if pos.shape[1] > 1 else 0
-        v_max = float(np.max(step)) * walks.sample_rate / k
-        rho = float(np.hypot(pos[..., 0], pos[..., 1]).min())
-        if v_max == 0:
-            return
-        xs = np.array([e.x for e in self.sensor.elements])
-        spacing = float(np.ptp(xs)) or self.sensor.elements[0].width
-        focal = max(f.focal_length for f in self.lens.facets)
-        f_cross = v_max * focal / (2 * max(rho, 0.3) * spacing)
-        if f_cross > walks.sample_rate / 10:
-            warn_validity(
-                f"beam crossings reach {f_cross:.3g} Hz, above a tenth of the "
-                f"{walks.sample_rate:g} Hz sample rate: raise the sample rate for "
-                "accurate waveforms"
-            )
+
+def _check_sampling(run) -> None:
+    """Warn when the fastest beam crossing of a run comes near its sample rate."""
+    f = run.crossing_frequency
+    if f is None or f.size == 0 or run.time.size < 2:
+        return
+    f_cross = float(np.max(f))
+    if f_cross > run.sample_rate / 10:
+        warn_validity(
+            f"beam crossings reach {f_cross:.3g} Hz, above a tenth of the "
+            f"{run.sample_rate:g} Hz sample rate: raise the sample rate for accurate waveforms"
+        )

@@ -24,6 +24,7 @@ import numpy as np
 
 from ..errors import DesignError
 from ..logic.rules import Decision, PulseLogic, Pulses
+from ..physics.optics import crossing_frequency
 from . import tables as tb
 
 TAPS = ("element_power", "equivalent_power", "gate", "source", "stages", "comparator", "events")
@@ -88,6 +89,9 @@ class ChainRun:
         Every pulse, flattened over walks.
     decisions : list of Decision or None
         Triggers, on-intervals and counted pulses of each walk.
+    crossing_frequency : numpy.ndarray or None
+        Fastest beam-pair crossing of each walk, v f/(2 d s) with its largest speed and
+        shortest range (at least 0.3 m) [Hz]; None for a driven run.
     """
 
     time: np.ndarray
@@ -103,6 +107,7 @@ class ChainRun:
     comparator_input: np.ndarray | None = None
     pulses: Pulses | None = None
     decisions: list | None = None
+    crossing_frequency: np.ndarray | None = None
 
     @property
     def detected(self) -> np.ndarray:
@@ -170,8 +175,7 @@ class CompiledChain:
                 "walks", (walks.n_samples, walks.sample_rate),
                 f"{self.n_samples} samples at {self.sample_rate:g} Hz (the compiled chain's)",
             )  # fmt: skip
-        det = self.detector
-        contrast = target.radiance_contrast(environment, det.sensor.band)
+        contrast = _contrast(target, environment, self.detector.sensor.band)
         parts = tb.part_table(target, contrast, walks.time)
         return self._run(0, walks.n_walks, tb.walk_table(walks), parts, None, taps, lux, extra)
 
@@ -215,8 +219,8 @@ class CompiledChain:
         optics = self.optics_per_element if per_element else self.optics_summed
         arrays = self._tap_arrays(taps, n_w)
         out = tb.OutcomeArrays(
-            np.zeros((n_w, 3), dtype=np.int64), np.zeros(n_w), np.zeros(n_w), float(self.rest),
-            int(n_t),
+            np.zeros((n_w, 3), dtype=np.int64), np.zeros(n_w), np.zeros(n_w), np.zeros(n_w),
+            np.full(n_w, np.inf), float(self.rest), int(n_t),
         )  # fmt: skip
         if walks is None:
             walks = tb.WalkTable(np.zeros((0, 0, 2)), np.zeros((0, 0, 2)))
@@ -226,7 +230,12 @@ class CompiledChain:
 
         run_batch(walks, parts, optics, self.sensor, self.follower, self.stages, self.logic,
                   dt, arrays, out)  # fmt: skip
-        return self._result(taps, arrays, out)
+        crossing = None
+        if start == 0:
+            crossing = crossing_frequency(
+                out.step * self.sample_rate, np.maximum(out.closest, 0.3), *self._pair_geometry
+            )
+        return self._result(taps, arrays, out, crossing)
 
     def _daylight(self, lux, n_w):
         day = (self.detector.logic or PulseLogic()).daylight
@@ -271,7 +280,15 @@ class CompiledChain:
             np.zeros((n_w, cap)),
         )
 
-    def _result(self, taps, a: tb.TapArrays, out: tb.OutcomeArrays) -> ChainRun:
+    @property
+    def _pair_geometry(self):
+        """(longest focal length, element spacing) of the fastest crossing [m]."""
+        det = self.detector
+        xs = np.array([e.x for e in det.sensor.elements])
+        spacing = float(np.ptp(xs)) or det.sensor.elements[0].width
+        return max(f.focal_length for f in det.lens.facets), spacing
+
+    def _result(self, taps, a: tb.TapArrays, out: tb.OutcomeArrays, crossing) -> ChainRun:
         counts = out.counts
         oc = WalkOutcomes(
             counts[:, 2] > 0, out.first_on, counts[:, 0], counts[:, 1], counts[:, 2], out.peak
@@ -294,7 +311,15 @@ class CompiledChain:
             get("comparator", a.comparator),
             pulses,
             decisions,
+            crossing,
         )  # fmt: skip
+
+
+@functools.lru_cache(maxsize=64)
+def _contrast(target, environment, band):
+    """Radiance contrast of each part (static, then arm segments) [W m⁻² sr⁻¹] (cached:
+    the clothing heat balance is iterated)."""
+    return target.radiance_contrast(environment, band)
 
 
 def _events(a: tb.TapArrays, counts):

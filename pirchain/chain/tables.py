@@ -165,6 +165,8 @@ class OutcomeArrays(NamedTuple):
     counts: np.ndarray  # (walks, 3) int: pulses, rule firings, turn-ons
     first_on: np.ndarray  # (walks,) [s], NaN: never
     peak: np.ndarray  # (walks,) largest |comparator input − rest| [V]
+    step: np.ndarray  # (walks,) largest distance between successive samples [m]
+    closest: np.ndarray  # (walks,) shortest horizontal range [m]
     rest: float  # comparator input at rest [V]
     n_samples: int
 

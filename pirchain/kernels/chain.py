@@ -65,7 +65,9 @@ def run_walk(w, walks, parts, optics, sensor, follower, stages, logic, drive, ta
     if start == START_OPTICS:
         n_out = optics.n_outputs
         acc = np.zeros((n_out, n_t))
-        walk_power(walks.position[w], walks.heading[w], parts, optics, acc)
+        out.step[w], out.closest[w] = walk_power(
+            walks.position[w], walks.heading[w], parts, optics, acc
+        )
         if taps.element_power.shape[0] == 0:  # the beams summed straight into Σ c_k P_k
             sig = acc[0]
         else:  # per element: keep them, then Σ c_k P_k

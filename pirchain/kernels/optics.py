@@ -158,6 +158,13 @@ def walk_power(pos, head, parts, optics, out):
         ΣΔL Ω to row ``output`` of ``out``.
     out : numpy.ndarray, shape (outputs, samples)
         Accumulated power [W].
+
+    Returns
+    -------
+    step : float
+        Largest distance between successive samples [m].
+    closest : float
+        Shortest horizontal range of the walk [m] (at least the model's minimum range).
     """
     n_t = pos.shape[0]
     n_p = parts.contrast.size
@@ -200,6 +207,12 @@ def walk_power(pos, head, parts, optics, out):
         inv_rho[t] = 1.0 / rho[t]
     for t in range(n_t):
         az[t] = fast_atan2(py[t], px[t])
+    step2, r_min_walk = 0.0, np.inf  # for the sampling check: largest step, shortest range
+    for t in range(n_t - 1):
+        dx, dy = px[t + 1] - px[t], py[t + 1] - py[t]
+        step2 = max(step2, dx * dx + dy * dy)
+    for t in range(n_t):
+        r_min_walk = min(r_min_walk, rho[t])
     # bounds of the static parts over a block, from the range extremes: the half width is
     # largest at the shortest range, and sin(elevation) of a fixed height is monotonic in range
     hw_max = parts.half_width_max
@@ -284,3 +297,4 @@ def walk_power(pos, head, parts, optics, out):
             out_k = out[b_out[b], t0:t1]
             for t in range(m):
                 out_k[t] += wb * acc[t]
+    return math.sqrt(step2), r_min_walk

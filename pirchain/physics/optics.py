@@ -51,6 +51,24 @@ from ..errors import (
 MIN_RANGE = 0.01
 
 
+def crossing_frequency(speed, distance, focal_length: float, spacing: float):
+    """Fundamental of a beam-pair crossing, v f / (2 d s) [Hz].
+
+    The + and − lobes of a crossing are d s/(f v) apart in time (thin lens, element spacing
+    ``s``, focal length ``f``), so the pair's waveform has its fundamental at v f/(2 d s).
+
+    Parameters
+    ----------
+    speed : array_like
+        Walking speed across the line of sight [m s⁻¹].
+    distance : array_like
+        Horizontal distance [m].
+    focal_length, spacing : float
+        [m].
+    """
+    return np.asarray(speed) * focal_length / (2.0 * np.asarray(distance) * spacing)
+
+
 @dataclass(frozen=True)
 class Facet:
     """One lens facet.
