@@ -18,8 +18,8 @@ import time
 
 import numpy as np
 
-from pirchain.interface.demo import demo_detector, demo_environment
 from pirchain.circuit.netlist import run_ngspice
+from pirchain.interface.demo import demo_detector, demo_environment
 from pirchain.physics.scene import adult, tangential_path, walks_from_paths
 from pirchain.physics.sensor import gate_current
 

@@ -18,9 +18,10 @@ import numpy as np
 from scipy import signal
 
 from pirchain.analysis.coverage import top_view
+from pirchain.circuit.synthesis import tf_sos
 from pirchain.interface.demo import demo_detector, demo_environment
 from pirchain.physics.scene import adult
-from pirchain.circuit.synthesis import tf_sos
+from pirchain.settings import AnalysisSettings
 
 
 def main() -> None:
@@ -33,21 +34,16 @@ def main() -> None:
     args = ap.parse_args()
     det, env = demo_detector(), demo_environment()
 
-    def run():
-        return top_view(
-            det,
-            adult(),
-            env,
-            "tangential",
-            1.22,
-            args.cell,
-            args.x_max,
-            trials=args.trials,
-            noise=args.noise,
-            chunk=args.chunk,
-        )
+    settings = AnalysisSettings(
+        coverage_cell=args.cell, coverage_x_max=args.x_max, coverage_trials=args.trials,
+        coverage_speed=1.22, noise=args.noise,
+    )  # fmt: skip
 
-    top_view(det, adult(), env, "tangential", 1.22, 4.0, 4.0, trials=1)  # load the kernels
+    def run():
+        return top_view(det, adult(), env, "tangential", settings, chunk=args.chunk)
+
+    small = AnalysisSettings(coverage_cell=4.0, coverage_x_max=4.0, coverage_trials=1)
+    top_view(det, adult(), env, "tangential", small)  # load the kernels
     elapsed = np.inf
     for _ in range(3):  # best of 3, untraced
         t0 = time.perf_counter()

@@ -16,9 +16,9 @@ import numpy as np
 from scipy import signal
 
 from pirchain.analysis.false_triggers import analytic_rate, comparator_sources, monte_carlo_rate
+from pirchain.circuit.synthesis import tf_sos
 from pirchain.interface.demo import demo_detector, demo_environment
 from pirchain.physics.disturbance import Draught
-from pirchain.circuit.synthesis import tf_sos
 
 
 def main() -> None:

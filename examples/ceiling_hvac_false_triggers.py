@@ -18,9 +18,9 @@ from pirchain.analysis.false_triggers import (
     threshold_for_rate,
     with_threshold,
 )
+from pirchain.circuit.noise import noise_budget
 from pirchain.interface.demo import demo_detector, demo_environment
 from pirchain.physics.disturbance import Draught
-from pirchain.circuit.noise import noise_budget
 from pirchain.physics.optics import LensRing, Mount, ceiling_lens
 
 

@@ -6,10 +6,10 @@ import dataclasses
 import numpy as np
 import pytest
 
-from pirchain.interface.demo import demo_detector, demo_environment
-from pirchain.errors import ValidityWarning
-from pirchain.physics.scene import adult, tangential_path, walks_from_paths
 from pirchain.circuit.supply import PowerSupply
+from pirchain.errors import ValidityWarning
+from pirchain.interface.demo import demo_detector, demo_environment
+from pirchain.physics.scene import adult, tangential_path, walks_from_paths
 
 
 def test_supply_budget_per_part_and_sum():

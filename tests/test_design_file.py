@@ -7,10 +7,10 @@ import sys
 
 import pytest
 
+from pirchain.errors import DesignError
 from pirchain.interface.cli import EXIT_DESIGN, main
 from pirchain.interface.demo_text import DEMO_TOML
 from pirchain.interface.design_file import loads
-from pirchain.errors import DesignError
 from pirchain.units import format_eng, parse_celsius, parse_quantity
 
 

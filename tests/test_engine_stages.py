@@ -83,7 +83,9 @@ def test_optics_kernel_equals_oracle(k, ceiling, count, angle, focal, height, se
         mount = Mount("wall", height, tilt_deg=5.0)
     elements = {"dual": dual_elements(), "quad": quad_elements(), "single": single_element()}
     sensor = dataclasses.replace(
-        BASE.sensor, elements=elements[layout], connection="single" if layout == "single" else "series"
+        BASE.sensor,
+        elements=elements[layout],
+        connection="single" if layout == "single" else "series",
     )
     det = dataclasses.replace(BASE, lens=lens, mount=mount, sensor=sensor)
     walks = random_walks(seed, ring=ceiling)

@@ -12,10 +12,10 @@ import numpy as np
 import oracles
 import pytest
 
+from pirchain.errors import DesignError, ValidityWarning
 from pirchain.interface.cli import main
 from pirchain.interface.demo import demo_detector, demo_environment
 from pirchain.interface.demo_text import DEMO_TOML
-from pirchain.errors import DesignError, ValidityWarning
 from pirchain.interface.output import write_new
 from pirchain.physics.scene import adult, radial_path, tangential_path, walks_from_paths
 from pirchain.physics.sensor import PyroSensor

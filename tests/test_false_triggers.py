@@ -20,11 +20,16 @@ from pirchain.analysis.false_triggers import (
     threshold_for_rate,
     with_threshold,
 )
+from pirchain.analysis.rice import (
+    poisson_interval,
+    spectral_moment,
+    upcrossing_rate,
+    zero_crossing_rate,
+)
 from pirchain.circuit.comparator import LadderWindow
 from pirchain.interface.demo import demo_detector, demo_environment
-from pirchain.physics.disturbance import AmbientRamp, Draught, draught_parts
 from pirchain.logic.rules import PulseLogic
-from pirchain.analysis.rice import poisson_interval, spectral_moment, upcrossing_rate, zero_crossing_rate
+from pirchain.physics.disturbance import AmbientRamp, Draught, draught_parts
 
 ENV = demo_environment()
 

@@ -1,17 +1,15 @@
 """Front end: stage transfer functions against python-control's interconnection of the same
 elements and the textbook formulas (Horowitz & Hill), the JFET follower against the
-Shockley square law worked example (Sedra & Smith; numbers derived from that law, docs/validation.md)."""
+Shockley square law worked example (Sedra & Smith; numbers derived from that law,
+docs/validation.md)."""
 
+import dataclasses
 import math
 
 import control
 import numpy as np
-import pytest
-
-from pirchain.errors import DesignError
-import dataclasses
-
 import oracles
+import pytest
 from scipy import signal
 
 from pirchain.circuit.comparator import FixedWindow, WindowComparator
@@ -20,6 +18,7 @@ from pirchain.circuit.opamp import OpAmp
 from pirchain.circuit.opamp_stages import InvertingBandPass, NonInvertingBandPass
 from pirchain.circuit.passive_stages import RCHighPass, RCLowPass
 from pirchain.circuit.transfer_stage import TransferStage
+from pirchain.errors import DesignError
 from pirchain.interface.demo import demo_detector
 
 FREQS = np.geomspace(0.01, 1e4, 60)
@@ -172,9 +171,7 @@ def test_hard_saturation_both_ways_equals_the_oracle():
         RCHighPass(1e5, 1e-6),
     )
     for st in stages:
-        run = one_stage(st).drive(
-            "gate", gate, 100.0, ("source", "stages"), start="discharged"
-        )
+        run = one_stage(st).drive("gate", gate, 100.0, ("source", "stages"), start="discharged")
         n = st.state_model().A.shape[0]
         ref, pins = oracles.piecewise(st, run.source_voltage, 100.0, np.zeros((40, n)))
         np.testing.assert_allclose(run.stage_outputs[0], ref, atol=1e-9)

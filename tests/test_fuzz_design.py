@@ -8,10 +8,10 @@ import random
 
 import pytest
 
+from pirchain.errors import DesignError
 from pirchain.interface.cli import main
 from pirchain.interface.demo_text import DEMO_TOML
 from pirchain.interface.design_file import loads
-from pirchain.errors import DesignError
 
 JUNK = [
     '"x"',

@@ -3,10 +3,10 @@ The rules are those of common practice for occupancy and intrusion detectors (pu
 1–4 within 2–10 s, blanking, retriggerable hold, re-arm lockout, daylight inhibit with
 hysteresis); the ladder is Ohm's law."""
 
+import dataclasses
+
 import numpy as np
 import pytest
-
-import dataclasses
 
 from pirchain.circuit.comparator import FixedWindow, LadderWindow, MappedWindow, WindowComparator
 from pirchain.errors import DesignError

@@ -9,8 +9,8 @@ import pytest
 from scipy import signal
 
 from pirchain.analysis.power_up import power_up, settling_time
-from pirchain.interface.demo import demo_detector, demo_environment
 from pirchain.circuit.netlist import netlist, ngspice_available, run_ngspice
+from pirchain.interface.demo import demo_detector, demo_environment
 from pirchain.physics.scene import adult, tangential_path, walks_from_paths
 from pirchain.physics.sensor import gate_current
 

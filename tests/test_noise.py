@@ -8,7 +8,6 @@ import numpy as np
 import pytest
 from scipy import constants, signal
 
-from pirchain.interface.demo import demo_detector, demo_environment
 from pirchain.circuit.noise import (
     band_grid,
     band_variance,
@@ -20,6 +19,7 @@ from pirchain.circuit.noise import (
     total_psd,
 )
 from pirchain.circuit.synthesis import NoiseSynthesizer, half_order_sos
+from pirchain.interface.demo import demo_detector, demo_environment
 
 T = 295.15
 KT4 = 4 * constants.k * T

@@ -4,13 +4,11 @@ d·s/(f·v) apart (Born & Wolf)."""
 
 import dataclasses
 import math
-
-import numpy as np
-import pytest
-
 import warnings
 
+import numpy as np
 import oracles
+import pytest
 
 from pirchain.errors import ValidityWarning
 from pirchain.interface.demo import demo_detector

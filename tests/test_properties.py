@@ -5,14 +5,13 @@ finite outputs for valid inputs and the invariants of the earlier checks — the
 law (Boyd 1983), linearity of the sensor in power (Putley 1970), antisymmetry of the radiance
 contrast, element power proportional to the contrast, op-amp outputs bounded by the rails."""
 
+import dataclasses
 import math
+import warnings
 
 import numpy as np
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
-
-import dataclasses
-import warnings
 
 from pirchain.circuit.comparator import FixedWindow, WindowComparator
 from pirchain.circuit.opamp import OpAmp
@@ -74,9 +73,7 @@ def _box(size, h, temp_c):
 
 
 @FAST
-@given(
-    st.floats(10e-3, 40e-3), st.floats(0.5e-3, 3e-3), st.floats(0.5, 2.0), st.floats(0.5, 15.0)
-)
+@given(st.floats(10e-3, 40e-3), st.floats(0.5e-3, 3e-3), st.floats(0.5, 2.0), st.floats(0.5, 15.0))
 def test_inverse_square_and_linear_in_contrast_for_small_targets(f, el_w, h, dt):
     lens = Lens((Facet(0.0, 0.0, f, 1e-4, 1.0),))
     mount = Mount("wall", h)

@@ -24,17 +24,17 @@ from pirchain.analysis.sweep import (
 from pirchain.analysis.walk_tests import detect, make_walks
 from pirchain.chain.detector import Detector
 from pirchain.circuit.comparator import FixedWindow, WindowComparator
-from pirchain.interface.demo import demo_detector, demo_environment
-from pirchain.errors import DesignError
 from pirchain.circuit.transfer_stage import TransferStage
 from pirchain.design import Design
-from pirchain.physics.disturbance import Draught
-from pirchain.settings import AnalysisSettings as S
+from pirchain.errors import DesignError
+from pirchain.interface.demo import demo_detector, demo_environment
 from pirchain.logic.rules import PulseLogic
+from pirchain.physics.disturbance import Draught
 from pirchain.physics.optics import Facet, Lens, LensTier, Mount, wall_lens
 from pirchain.physics.radiometry import celsius_to_kelvin, radiance_contrast
 from pirchain.physics.scene import BodyPart, Environment, Target, adult, small_pet
 from pirchain.physics.sensor import PyroSensor, dual_elements
+from pirchain.settings import AnalysisSettings as S
 
 ENV = demo_environment()
 SINGLE = PulseLogic(rate=100.0, pulses_required=1, blanking=0.0, hold=1.0, lockout=0.0)
@@ -205,7 +205,10 @@ def test_top_view_and_side_view():
 
 def test_paths_and_trade_off():
     st = Design(
-        demo_detector(), ENV, draught=Draught(), analysis=S(trials=2, noise=False, d_max=25.0, step=2.0)
+        demo_detector(),
+        ENV,
+        draught=Draught(),
+        analysis=S(trials=2, noise=False, d_max=25.0, step=2.0),
     )
     assert get_path(st, "detector.stages[1].rf") == 1e6
     s2 = set_path(st, "detector.stages[1].rf", 2e6)

@@ -7,6 +7,7 @@ import numpy as np
 import pytest
 
 from pirchain.errors import DesignError
+from pirchain.physics.pose import arm_segment, projected_half_width
 from pirchain.physics.scene import (
     EFFECTIVE_RADIATING_FRACTION,
     BodyPart,
@@ -21,7 +22,6 @@ from pirchain.physics.scene import (
     tangential_path,
     walks_from_paths,
 )
-from pirchain.physics.pose import arm_segment, projected_half_width
 
 
 def test_dubois_worked_value():

@@ -2,6 +2,7 @@
 Whatmore (1986), with a worked vector derived from that formula (docs/validation.md); the
 time-domain checks drive the chain's pass at the equivalent-power node."""
 
+import dataclasses
 import math
 
 import numpy as np
@@ -9,8 +10,6 @@ import pytest
 from scipy import constants
 
 from pirchain.errors import DesignError
-import dataclasses
-
 from pirchain.interface.demo import demo_detector
 from pirchain.physics.sensor import (
     MATERIALS,

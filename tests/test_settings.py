@@ -179,7 +179,9 @@ def test_command_line_passes_the_loaded_settings_to_every_analysis(tmp_path, mon
         monkeypatch.setattr(mod, name, wrapped)
     monkeypatch.setattr(sweep, "detection_range", detection_range.detection_range)
     expect = design(seed=7, sample_rate=120.0).analysis
-    cli(tmp_path, ["range", "{design}", "--json", "--map", "{tmp}/m.png"], seed=7, sample_rate=120.0)
+    cli(
+        tmp_path, ["range", "{design}", "--json", "--map", "{tmp}/m.png"], seed=7, sample_rate=120.0
+    )
     cli(tmp_path, ["sweep", "{design}", "--json"], seed=7, sample_rate=120.0)
     cli(tmp_path, ["false-triggers", "{design}", "--json", "--mc-hours", "0.02"], seed=7,
         sample_rate=120.0)  # fmt: skip

@@ -2,11 +2,11 @@
 
 Protocols follow the published walk tests (docs/validation.md lists them): the
 lighting-sensor walk of NEMA WD 7-2011 (1.22 m/s, cells of 0.91 m), its minor-motion arm,
-and the intrusion-detector speed set of EN 50131-2-2 (from memory, low confidence: labelled as such). A walk segment of
-3 m is used for a detection verdict (EN 50131-2-2 asks for detection within about 3 m of
-walking; from memory). The probability of detection is estimated over random start
-positions relative to the beams (the walk is shifted along itself by up to one beam pitch)
-and over seeded noise added at the comparator input.
+and the intrusion-detector speed set of EN 50131-2-2 (from memory, low confidence:
+labelled as such). A walk segment of 3 m is used for a detection verdict (EN 50131-2-2
+asks for detection within about 3 m of walking; from memory). The probability of detection
+is estimated over random start positions relative to the beams (the walk is shifted along
+itself by up to one beam pitch) and over seeded noise added at the comparator input.
 """
 
 from __future__ import annotations

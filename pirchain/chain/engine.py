@@ -336,8 +336,8 @@ def _events(a: tb.TapArrays, counts):
     decisions = []
     for w in range(n_w):
         mine = pulses.slice(bounds[w], bounds[w + 1])
-        on = [(float(s), float(e)) for s, e in zip(a.on_start[w, : n_on[w]],
-                                                   a.on_end[w, : n_on[w]], strict=True)]  # fmt: skip
+        starts, ends = a.on_start[w, : n_on[w]], a.on_end[w, : n_on[w]]
+        on = [(float(s), float(e)) for s, e in zip(starts, ends, strict=True)]
         decisions.append(Decision(mine.start[mine.fired], on, mine.start[mine.counted]))
     return pulses, decisions
 

@@ -1,10 +1,10 @@
 """SPICE netlist export of the analog chain, and a runner for ngspice.
 
 The netlist holds the sensor as the equivalent pyroelectric current (a PWL source) into
-R_G ∥ C_gate, the JFET follower (square-law NJF model with the same I_DSS and V_P), and each stage as its
-own class writes it (:meth:`pirchain.circuit.stage.Stage.netlist_lines`), with op-amp
-macromodels from :class:`NetlistWriter`. The reference voltages are ideal sources, as in the
-model.
+R_G ∥ C_gate, the JFET follower (square-law NJF model with the same I_DSS and V_P), and
+each stage as its own class writes it (:meth:`pirchain.circuit.stage.Stage.netlist_lines`),
+with op-amp macromodels from :class:`NetlistWriter`. The reference voltages are ideal
+sources, as in the model.
 
 References
 ----------

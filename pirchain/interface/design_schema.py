@@ -198,10 +198,19 @@ SCHEMA = {
         {
             **_fields(
                 PulseLogic,
-                {"rate": "Hz", "count_window": "s", "single_pulse_factor": None,
-                 "blanking": "s", "hold": "s", "lockout": "s"},
-                {"pulses_required": ("int", None), "alternate": ("bool", None),
-                 "retrigger": ("bool", None)},
+                {
+                    "rate": "Hz",
+                    "count_window": "s",
+                    "single_pulse_factor": None,
+                    "blanking": "s",
+                    "hold": "s",
+                    "lockout": "s",
+                },
+                {
+                    "pulses_required": ("int", None),
+                    "alternate": ("bool", None),
+                    "retrigger": ("bool", None),
+                },
             ),  # fmt: skip
             "daylight": (
                 "section",
@@ -221,8 +230,14 @@ SCHEMA = {
         "section",
         _fields(
             PowerSupply,
-            {"voltage": "V", "reference_top": "ohm", "reference_bottom": "ohm",
-             "logic_current": "A", "other_current": "A", "limit": "A"},
+            {
+                "voltage": "V",
+                "reference_top": "ohm",
+                "reference_bottom": "ohm",
+                "logic_current": "A",
+                "other_current": "A",
+                "limit": "A",
+            },
         ),  # fmt: skip
         {},
     ),
@@ -252,14 +267,30 @@ SCHEMA = {
         "section",
         _fields(
             AnalysisSettings,
-            {"sample_rate": "Hz", "level": None, "d_min": "m", "d_max": "m", "step": "m",
-             "walk_distance": "m", "false_trigger_budget": None, "coverage_cell": "m",
-             "coverage_x_max": "m", "coverage_speed": "m/s", "settle_duration": "s",
-             "settle_sample_rate": "Hz"},
-            {"trials": ("int", None), "refine": ("int", None), "noise": ("bool", None),
-             "bearings": ("list", None), "seed": ("int", None),
-             "sensitivity_path": ("str", None), "sensitivity_values": ("list", None),
-             "coverage_trials": ("int", None)},
+            {
+                "sample_rate": "Hz",
+                "level": None,
+                "d_min": "m",
+                "d_max": "m",
+                "step": "m",
+                "walk_distance": "m",
+                "false_trigger_budget": None,
+                "coverage_cell": "m",
+                "coverage_x_max": "m",
+                "coverage_speed": "m/s",
+                "settle_duration": "s",
+                "settle_sample_rate": "Hz",
+            },
+            {
+                "trials": ("int", None),
+                "refine": ("int", None),
+                "noise": ("bool", None),
+                "bearings": ("list", None),
+                "seed": ("int", None),
+                "sensitivity_path": ("str", None),
+                "sensitivity_values": ("list", None),
+                "coverage_trials": ("int", None),
+            },
         ),  # fmt: skip
         {},
     ),

@@ -106,4 +106,6 @@ def run_walk(w, walks, parts, optics, sensor, follower, stages, logic, drive, ta
 def run_batch(walks, parts, optics, sensor, follower, stages, logic, drive, taps, out):
     """:func:`run_walk` for every walk of the batch, walks split over the CPU cores."""
     for w in numba.prange(out.first_on.shape[0]):
-        run_walk(np.int64(w), walks, parts, optics, sensor, follower, stages, logic, drive, taps, out)
+        run_walk(
+            np.int64(w), walks, parts, optics, sensor, follower, stages, logic, drive, taps, out
+        )

@@ -249,9 +249,7 @@ def walk_power(pos, head, parts, optics, out):
         n_c = 0
         for b in range(n_b):
             if not (
-                abs(_wrap(b_az[b] - mid)) >= reach + b_half[b]
-                or b_hi[b] <= lo_b
-                or b_lo[b] >= hi_b
+                abs(_wrap(b_az[b] - mid)) >= reach + b_half[b] or b_hi[b] <= lo_b or b_lo[b] >= hi_b
             ):
                 cand[n_c] = b
                 n_c += 1

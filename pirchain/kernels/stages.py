@@ -73,9 +73,8 @@ class Sec(NamedTuple):
 
 @numba.njit(**INLINE)
 def _coef(tab, s, m):
-    p, q, r, c = tab.p, tab.q, tab.r, tab.c
-    return Coef(p[s, m, 0, 0], p[s, m, 0, 1], p[s, m, 1, 0], p[s, m, 1, 1], q[s, m, 0],
-                q[s, m, 1], r[s, m, 0], r[s, m, 1], c[s, 0], c[s, 1], tab.d[s], tab.f[s])  # fmt: skip
+    p, q, r, c, d, f = tab.p[s, m], tab.q[s, m], tab.r[s, m], tab.c[s], tab.d[s], tab.f[s]
+    return Coef(p[0, 0], p[0, 1], p[1, 0], p[1, 1], q[0], q[1], r[0], r[1], c[0], c[1], d, f)
 
 
 @numba.njit(**INLINE)

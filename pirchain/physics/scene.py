@@ -25,9 +25,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .body_heat import clothing_surface_temperature_c, fur_surface_temperature_c, skin_temperature_c
 from ..errors import DesignError, check_array, check_choice, check_nonnegative, check_positive
 from ..errors import check_range as _check_range
+from .body_heat import clothing_surface_temperature_c, fur_surface_temperature_c, skin_temperature_c
 from .radiometry import celsius_to_kelvin, radiance_contrast
 
 SKIN_EMISSIVITY = 0.98  # Steketee (1973)

@@ -1,6 +1,6 @@
 """Record the outputs of ``commands.COMMANDS`` into this folder (run from the repo root).
 
-    python3 tests/golden/make.py
+python3 tests/golden/make.py
 """
 
 import contextlib
