@@ -6,6 +6,7 @@ follows ruff."""
 
 import ast
 import pathlib
+import re
 import shutil
 import subprocess
 import sys
@@ -132,9 +133,15 @@ def test_modules_stay_small_and_cite_only_what_exists():
         text = path.read_text(encoding="utf-8")
         assert text.count("\n") <= 600, f"{rel}: {text.count(chr(10))} lines"
         assert "REFERENCES.md" not in text and "DESIGN.md" not in text, rel
-        for doc in ("docs/model.md", "docs/validation.md", "docs/performance.md"):
-            if doc in text:
-                assert (ROOT / doc).exists(), (rel, doc)
+    # every docs/*.md that a module, test, benchmark or page names is in the repository
+    sources = [*ROOT.glob("pirchain/**/*.py"), *ROOT.glob("tests/*.py")]
+    sources += [*ROOT.glob("benchmarks/*.py"), *ROOT.glob("docs/*.md"), ROOT / "README.md"]
+    for path in sources:
+        text = path.read_text(encoding="utf-8")
+        for doc in set(re.findall(r"docs/[\w-]+\.md", text)):
+            assert (ROOT / doc).exists(), (path.name, doc)
+        if path.name != "test_architecture.py":
+            assert "REFERENCES.md" not in text, path.name
 
 
 @pytest.mark.skipif(shutil.which("ruff") is None, reason="ruff comes with the test extra")

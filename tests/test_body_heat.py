@@ -1,4 +1,4 @@
-"""Surface temperatures against ISO 7730 / Fanger check values (REFERENCES.md)."""
+"""Surface temperatures against ISO 7730 / Fanger check values (docs/references.md)."""
 
 import numpy as np
 import pytest
@@ -14,7 +14,7 @@ def test_fanger_skin_temperature():
 
 def test_iso7730_clothing_surface_temperature():
     # ISO 7730 heat-balance iteration, 0.1 m/s, 1.2 met, air = radiant; the general-purpose
-    # library pythermalcomfort gives the same values (REFERENCES.md, derived). The
+    # library pythermalcomfort gives the same values (docs/references.md, derived). The
     # iteration stops at 1.5e-4 × 100 K, so agree to 0.02 K.
     got = clothing_surface_temperature_c(
         [22.0, 22.0, 25.0], clo=[1.0, 0.5, 0.5], met=1.2, air_speed=0.1

@@ -1,4 +1,4 @@
-"""Whole-chain behaviour: supply budget (Ohm's law per part; REFERENCES.md: a two-wire
+"""Whole-chain behaviour: supply budget (Ohm's law per part; docs/references.md: a two-wire
 switch lives on tens of µA, common practice), rest levels and end-to-end detection."""
 
 import dataclasses

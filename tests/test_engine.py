@@ -15,6 +15,7 @@ import warnings
 import numpy as np
 import oracles
 import pytest
+from walk_sets import mixed_walks
 
 from pirchain.chain.detector import Detector
 from pirchain.chain.engine import TAPS
@@ -38,18 +39,6 @@ from pirchain.physics.sensor import gate_current
 
 ENV = demo_environment()
 FS = 100.0
-
-
-def mixed_walks(n, seed=3, rate=FS, duration=8.0):
-    # distances 0.8–22 m, all bearings of the lens, headings at random: close walks rail
-    rng = np.random.default_rng(seed)
-    d = rng.uniform(0.8, 22.0, n)
-    b = rng.uniform(-1.0, 1.0, n)
-    c = np.stack([d * np.cos(b), d * np.sin(b)], axis=1)
-    head = rng.normal(size=(n, 2))
-    head /= np.linalg.norm(head, axis=1)[:, None]
-    v = rng.uniform(0.3, 2.0, n)
-    return straight_walks(c - head * (2.0 * v)[:, None], head, v, duration, rate)
 
 
 def assert_matches_oracle(run, ref, det, atol=1e-9):

@@ -1,5 +1,5 @@
 """False-trigger rates: Rice's formula (Rice 1944/1945) against its check values in
-REFERENCES.md (derived), the seeded Monte Carlo against Rice, disturbance invariants, and a
+docs/references.md (derived), the seeded Monte Carlo against Rice, disturbance invariants, and a
 ramp against python-control's forced response of the chain's transfer function."""
 
 import dataclasses
@@ -35,7 +35,8 @@ ENV = demo_environment()
 
 
 def test_rice_butterworth_zero_crossing_rate():
-    # second-order Butterworth low-pass of corner f_c: ν₀⁺ = f_c exactly (REFERENCES, derived)
+    # second-order Butterworth low-pass of corner f_c: ν₀⁺ = f_c exactly
+    # (docs/references.md, derived)
     fc = 3.0
     b, a = signal.butter(2, 2 * math.pi * fc, analog=True)
     f = np.linspace(0.0, 2e5, 4_000_001)
@@ -44,7 +45,7 @@ def test_rice_butterworth_zero_crossing_rate():
 
 
 def test_rice_ideal_band_pass_table():
-    # REFERENCES (derived): 0.4–10 Hz: ν₀⁺ = 5.8924 /s; mean time between crossings of ±u:
+    # docs/references.md (derived): 0.4–10 Hz: ν₀⁺ = 5.8924 /s; mean time between crossings of ±u:
     # 7.638 s (3σ), 252.95 s (4σ), 2.2770e4 s (5σ), 5.5716e6 s (6σ); 0.3–3.5 Hz: 2.1127, 705.50 s.
     f = np.linspace(0.4, 10.0, 200_001)
     s = np.ones_like(f)
@@ -81,7 +82,7 @@ def test_monte_carlo_single_pulse_rate_agrees_with_rice(k, hours):
 
 def test_two_pulse_counting_ratio_is_bounded():
     # Two pulses within 4 s, 0.3 s blanking. The analytic figure treats pulses as Poisson
-    # (REFERENCES: Rice + a counting approximation). Real crossings cluster — raising the
+    # (docs/references.md: Rice + a counting approximation). Real crossings cluster — raising the
     # rate — while blanking swallows cluster members — lowering it; measured ratios are
     # 0.7–0.8, and we bound MC/analytic within a factor of 3 either way.
     det = _single_pulse(demo_detector(), 3.0)

@@ -78,7 +78,7 @@ def test_passive_and_general_stages():
 
 def test_textbook_corners_and_gain():
     # Horowitz & Hill: f_L = 1/(2π R1 C1), f_H = 1/(2π Rf Cf), mid-band gain 1 + Rf/R1.
-    # REFERENCES.md: 10 kΩ, 47 µF → 0.3386 Hz; 1 MΩ, 10 nF → 15.92 Hz (0.1 %).
+    # docs/references.md: 10 kΩ, 47 µF → 0.3386 Hz; 1 MΩ, 10 nF → 15.92 Hz (0.1 %).
     st = NonInvertingBandPass(10e3, 47e-6, 1e6, 10e-9, AMP)
     assert st.low_corner == pytest.approx(0.3386, rel=1e-3)
     assert st.high_corner == pytest.approx(15.92, rel=1e-3)
@@ -92,7 +92,7 @@ def test_textbook_corners_and_gain():
 
 
 def test_jfet_worked_example():
-    # REFERENCES.md (derived from the Shockley law): I_DSS 0.5 mA, |V_P| 1.5 V, R_S 47 kΩ →
+    # docs/references.md (derived from the Shockley law): I_DSS 0.5 mA, |V_P| 1.5 V, R_S 47 kΩ →
     # V_S 1.1659 V, I_D 24.81 µA, g_m 148.5 µS, gain 0.8747 (0.1 %).
     f = SourceFollower(Jfet(idss=0.5e-3, pinch_off=1.5), 47e3)
     assert f.offset == pytest.approx(1.1659, rel=1e-3)

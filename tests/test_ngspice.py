@@ -1,5 +1,5 @@
 """The analog chain against ngspice (Debian package ``ngspice``, a general-purpose circuit
-simulator; REFERENCES.md) running pirchain's own exported netlist. CI installs ngspice, so
+simulator; docs/references.md) running pirchain's own exported netlist. CI installs ngspice, so
 these tests run there; they fail, not skip, when it is missing."""
 
 import math

@@ -1,6 +1,6 @@
 """Noise budget and synthesis: Johnson noise 4kTR (Nyquist 1928), the pyroelectric noise
 terms of Whatmore (1986) / Porter (1981) (from memory), the common-practice sensor noise
-figure of REFERENCES.md, and Welch's PSD estimate (scipy.signal.welch) of synthesised noise."""
+figure of docs/references.md, and Welch's PSD estimate (scipy.signal.welch) of synthesised noise."""
 
 import math
 
@@ -48,7 +48,7 @@ def test_dielectric_loss_noise_high_frequency_form():
 
 
 def test_sensor_noise_matches_common_practice_and_nep():
-    # REFERENCES.md (common practice): tens of µV p-p in ~0.4–10 Hz; p-p ≈ 6.6 × rms for
+    # docs/references.md (common practice): tens of µV p-p in ~0.4–10 Hz; p-p ≈ 6.6 × rms for
     # Gaussian noise (common practice crest factor).
     det = demo_detector()
     rms = noise_budget(sensor_sources(det, T), (0.4, 10.0)).total_rms

@@ -17,7 +17,7 @@ from pirchain.physics.radiometry import (
 )
 
 # Incropera et al., Fundamentals of Heat and Mass Transfer, blackbody radiation function
-# table; Siegel & Howell, Thermal Radiation Heat Transfer (REFERENCES.md, medium). Printed
+# table; Siegel & Howell, Thermal Radiation Heat Transfer (docs/references.md, medium). Printed
 # tables differ among themselves by <= 5e-5, hence the 1e-4 tolerance.
 TABLE = {
     1000: 0.000321,
@@ -35,7 +35,7 @@ TABLE = {
 
 
 def test_constants_match_codata():
-    # CODATA via scipy.constants (REFERENCES.md, high): c2 = 14 387.77 µm K.
+    # CODATA via scipy.constants (docs/references.md, high): c2 = 14 387.77 µm K.
     assert C2 * 1e6 == pytest.approx(14387.77, abs=0.01)
     assert constants.Wien * 1e6 == pytest.approx(2897.77, abs=0.01)
 
@@ -71,7 +71,7 @@ def test_band_exitance_matches_quad_of_planck(temp, band):
 
 
 def test_band_exitance_check_values():
-    # REFERENCES.md, derived from Planck's law (two decimals as printed).
+    # docs/references.md, derived from Planck's law (two decimals as printed).
     np.testing.assert_allclose(
         band_exitance([295, 305, 310], (8e-6, 14e-6)), [159.72, 186.04, 200.10], atol=0.006
     )
@@ -81,7 +81,7 @@ def test_band_exitance_check_values():
 
 
 def test_exitance_derivative():
-    # REFERENCES.md (derived): 2.632 / 4.037 / 6.124 W m^-2 K^-1 at 300 K; total = 4 σ T³.
+    # docs/references.md (derived): 2.632 / 4.037 / 6.124 W m^-2 K^-1 at 300 K; total = 4 σ T³.
     assert band_exitance_derivative(300.0, (8e-6, 14e-6)) == pytest.approx(2.632, abs=6e-4)
     assert band_exitance_derivative(300.0, (5e-6, 14e-6)) == pytest.approx(4.037, abs=6e-4)
     total = band_exitance_derivative(300.0, (1e-8, 1.0))

@@ -25,7 +25,7 @@ from pirchain.physics.scene import (
 
 
 def test_dubois_worked_value():
-    # DuBois & DuBois (1916): 175 cm, 70 kg → 1.848 m² (REFERENCES.md, high)
+    # DuBois & DuBois (1916): 175 cm, 70 kg → 1.848 m² (docs/references.md, high)
     assert dubois_area(1.75, 70.0) == pytest.approx(1.848, abs=1e-3)
 
 
@@ -34,7 +34,7 @@ def test_dubois_worked_value():
 )
 def test_projected_areas_follow_fanger(make, h, m):
     # Fanger (1970) / ASHRAE 55: projected area factor 0.35 front, 0.23 side, of the
-    # effective radiating area 0.725 × A_DuBois (REFERENCES.md, high), within 5 %.
+    # effective radiating area 0.725 × A_DuBois (docs/references.md, high), within 5 %.
     t = make()
     a_eff = EFFECTIVE_RADIATING_FRACTION * dubois_area(h, m)
     assert t.frontal_area() == pytest.approx(0.35 * a_eff, rel=0.05)

@@ -50,7 +50,7 @@ def test_worked_vector_intermediates():
 
 
 def test_worked_responsivity_vector():
-    # REFERENCES.md: 42 281 / 10 809 / 1 099.35 V/W at 0.1 / 1 / 10 Hz, within 0.1 %.
+    # docs/references.md: 42 281 / 10 809 / 1 099.35 V/W at 0.1 / 1 / 10 Hz, within 0.1 %.
     got = np.abs(worked_sensor().responsivity([0.1, 1.0, 10.0]))
     np.testing.assert_allclose(got, [42281.0, 10809.0, 1099.35], rtol=1e-3)
 
@@ -59,7 +59,7 @@ def test_high_frequency_limit_and_peak():
     s = worked_sensor()
     mat = MATERIALS["LiTaO3"]
     area = 2e-6
-    # η p / (ω c' ε0 ε_r A): 1 099.54 V/W at 10 Hz (REFERENCES.md, derived)
+    # η p / (ω c' ε0 ε_r A): 1 099.54 V/W at 10 Hz (docs/references.md, derived)
     hf = (
         0.8
         * mat.pyro_coefficient

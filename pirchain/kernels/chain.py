@@ -59,7 +59,10 @@ def _stages(sig, st, w, taps, discharged):
 @numba.njit(**JIT)
 def run_walk(w, walks, parts, optics, sensor, follower, stages, logic, drive, taps, out):
     """Walk ``w`` through the chain from ``drive.start``; fills row ``w`` of ``out`` and of
-    every tap that has rows (the tables are those of :mod:`pirchain.chain.tables`)."""
+    every tap that has rows (the tables are those of :mod:`pirchain.chain.tables`).
+
+    Not inlined into the parallel loop: tried, numba's parallel transform of the inlined body
+    then lost every pulse of the decision rules (no walk detected)."""
     n_t = out.n_samples
     start = drive.start
     if start == START_OPTICS:

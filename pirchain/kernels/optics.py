@@ -32,6 +32,7 @@ from ..physics.optics import MIN_RANGE
 from .jit import INLINE, JIT, rule
 
 _BLOCK = 64  # samples per block of the beam search
+_STEP_EVERY = 8  # the sampling check's speed estimate reads every 8th sample step
 _TWO_PI = 2.0 * math.pi
 
 _T3P8 = 2.41421356237309504880  # tan(3π/8)
@@ -162,7 +163,7 @@ def walk_power(pos, head, parts, optics, out):
     Returns
     -------
     step : float
-        Largest distance between successive samples [m].
+        Largest distance between successive samples, read at every 8th sample [m].
     closest : float
         Shortest horizontal range of the walk [m] (at least the model's minimum range).
     """
@@ -208,11 +209,6 @@ def walk_power(pos, head, parts, optics, out):
     for t in range(n_t):
         az[t] = fast_atan2(py[t], px[t])
     step2, r_min_walk = 0.0, np.inf  # for the sampling check: largest step, shortest range
-    for t in range(n_t - 1):
-        dx, dy = px[t + 1] - px[t], py[t + 1] - py[t]
-        step2 = max(step2, dx * dx + dy * dy)
-    for t in range(n_t):
-        r_min_walk = min(r_min_walk, rho[t])
     # bounds of the static parts over a block, from the range extremes: the half width is
     # largest at the shortest range, and sin(elevation) of a fixed height is monotonic in range
     hw_max = parts.half_width_max
@@ -224,6 +220,9 @@ def walk_power(pos, head, parts, optics, out):
         t1 = min(n_t, t0 + _BLOCK)
         m = t1 - t0
         mid = az[(t0 + t1) // 2]
+        for t in range(t0, t1 - 1, _STEP_EVERY):  # the sampling check reads every 8th step
+            dx, dy = px[t + 1] - px[t], py[t + 1] - py[t]
+            step2 = max(step2, dx * dx + dy * dy)
         reach, lo_b, hi_b = -1.0, np.inf, -np.inf  # nothing reachable yet
         if n_p > 0:
             span = 0.0
@@ -232,6 +231,7 @@ def walk_power(pos, head, parts, optics, out):
                 span = max(span, abs(_wrap(az[t] - mid)))
                 r_min = min(r_min, rho[t])
                 r_max = max(r_max, rho[t])
+            r_min_walk = min(r_min_walk, r_min)
             reach = span + fast_atan(hw_max / r_min)
             e_a = z_lo / math.sqrt(r_min**2 + z_lo**2)
             e_b = z_lo / math.sqrt(r_max**2 + z_lo**2)
@@ -240,6 +240,8 @@ def walk_power(pos, head, parts, optics, out):
             e_b = z_hi / math.sqrt(r_max**2 + z_hi**2)
             hi_b = max(e_a, e_b)
         if n_a > 0:  # arm segments: rectangles first, then their bounds
+            for t in range(t0, t1):
+                r_min_walk = min(r_min_walk, rho[t])
             _arm_block(t0, t1, px, py, parts, h, az_a, ah_a, s0_a, s1_a)
             for i in range(n_a):
                 for t in range(t0, t1):
