@@ -14,8 +14,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..errors import DesignError, check_positive
-from ..settings import AnalysisSettings
+from ..errors import DesignError, check_positive, warnings_once
+from ..settings import AnalysisSettings, check_work
 from .false_triggers import comparator_sources
 from .walk_tests import WalkSet, detect, walk_heading
 
@@ -44,6 +44,7 @@ class CoverageMap:
     walks: int
 
 
+@warnings_once()
 def top_view(
     detector,
     target,
@@ -113,6 +114,10 @@ def top_view(
         head,
         np.full(cx.size, float(s.coverage_speed)),
         2.0 * cell if walk_length is None else float(walk_length),
+    )
+    check_work(
+        "analysis.coverage_cell × coverage_trials × sample_rate",
+        cx.size * (walks.length / s.coverage_speed + 2.5) * s.sample_rate,
     )
     src = comparator_sources(detector, env) if s.noise else None
     hit, _ = detect(

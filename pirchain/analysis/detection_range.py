@@ -13,8 +13,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..errors import check_positive
-from ..settings import AnalysisSettings
+from ..errors import check_range, warnings_once
+from ..settings import WALK_SPEED_RANGE, AnalysisSettings, check_work
 from .false_triggers import comparator_sources
 from .walk_tests import beam_pitch, detect, make_walks
 
@@ -175,8 +175,13 @@ def detection_range(
     steps towards the next grid distance.
     """
     s = AnalysisSettings() if settings is None else settings
-    check_positive("speed", speed, "m/s")
+    check_range("speed", speed, *WALK_SPEED_RANGE, "m/s (a person's speed)")
     grid = np.arange(s.d_min, s.d_max + 1e-9, s.step)
+    walk_samples = (3.0 / speed + 2.5) * s.sample_rate  # 3 m walks and their tail
+    check_work(
+        "analysis.trials × distances × sample_rate",
+        grid.size * s.trials * (2 if s.noise else 1) * walk_samples * (1 + s.refine / grid.size),
+    )
     src = comparator_sources(detector, env) if s.noise else None
     kw = dict(
         bearing_deg=bearing_deg,
@@ -225,6 +230,7 @@ def detection_range(
     )  # fmt: skip
 
 
+@warnings_once()
 def range_table(design, kinds=("tangential", "radial"), bearings=None, progress=None):
     """:func:`detection_range` of a design for every kind and bearing of its settings.
 

@@ -8,6 +8,7 @@ compiles for a sample rate and walk length with :meth:`Detector.compile`.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import control
@@ -82,8 +83,13 @@ class Detector:
         """Quiescent DC level at the source and after every stage [V]."""
         self.require_analog()
         levels = [self.follower.offset]
-        for st in self.stages:
-            levels.append(st.output_dc(levels[-1]))
+        for k, st in enumerate(self.stages):
+            with np.errstate(all="ignore"):
+                levels.append(float(st.output_dc(levels[-1])))
+            if not math.isfinite(levels[-1]):
+                raise DesignError(
+                    f"stages[{k}]", st.name, "part values that give a finite rest level"
+                )
         return levels
 
     def window(self) -> tuple[float, float]:

@@ -18,6 +18,8 @@ plt.rcParams.update(
         "grid.alpha": 0.3,
         "figure.dpi": 110,
         "savefig.bbox": "tight",
+        "text.parse_math": False,  # user names are plain text: "$" is a dollar sign
+        "svg.hashsalt": "pirchain",  # the same figure gives the same SVG ids
     }
 )
 
