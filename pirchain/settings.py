@@ -44,7 +44,7 @@ class AnalysisSettings:
     level : float
         Required probability of detection for a range.
     trials : int
-        Walks per distance of a range search (random positions relative to the beams).
+        Walks per distance of a range search (positions spread evenly over one beam pitch).
     d_min, d_max, step : float
         Distance grid of a range search [m].
     refine : int

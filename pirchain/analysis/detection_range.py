@@ -1,7 +1,7 @@
 """Detection range per bearing: the farthest distance where P(detect) ≥ a level.
 
-P(detect) at a distance is the share of ``trials`` test walks, at random positions relative
-to the beams and with seeded noise, that turn the output on. The range is found on a
+P(detect) at a distance is the share of ``trials`` test walks, at positions spread evenly
+over one beam pitch and with seeded noise, that turn the output on. The range is found on a
 distance grid, then refined by bisection between the farthest grid point that passes and
 the next; distances below the range that fail (walks too fast close in, too slow far out,
 or holes between zones) are reported as gaps rather than smoothed over.
@@ -37,10 +37,15 @@ class RangeResult:
         Grid [m].
     probability, probability_noise_free : numpy.ndarray
         P(detect) on the grid, with and without noise.
-    range, range_noise_free : float
+    range : float
         Farthest distance meeting the level [m]; 0 if none.
+    range_noise_free : float
+        The same without noise at the comparator. The walk positions are spread evenly over
+        one beam period (not drawn at random), so it depends on the design alone, not on
+        the seed.
     gaps : tuple of (float, float)
-        Grid intervals closer than the range that fail the level [m].
+        Distances closer than the range that fail the level [m]: each gap spans the grid
+        cells (± step/2) of its failing grid distances, so it is at least one step wide.
     sample_rate : float
         Analog sample rate of the walks [Hz].
     trials : int
@@ -90,7 +95,7 @@ def probability_of_detection(
         [°], [m s⁻¹]; broadcast with ``distances``.
     kind : {"tangential", "radial"}
     trials : int
-        Walks per combination, at random positions relative to the beams.
+        Walks per combination, at positions spread evenly over one beam pitch.
     seed : int
         Seed of the positions and the noise.
     noise : bool
@@ -218,11 +223,12 @@ def detection_range(
     rng_free = refined(p_free, False) if s.noise else rng
     k = _farthest(p, s.level)
     gaps, start = [], None
+    half = 0.5 * s.step  # a gap covers the grid cells of its missed distances: never 0 wide
     for i in range(k + 1):
         if p[i] < s.level and start is None:
             start = grid[i]
         if p[i] >= s.level and start is not None:
-            gaps.append((float(start), float(grid[i - 1])))
+            gaps.append((max(float(start) - half, s.d_min), float(grid[i - 1]) + half))
             start = None
     return RangeResult(
         float(bearing_deg), kind, float(speed), float(s.level), grid, p, p_free, rng,

@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import argparse
 import dataclasses
+import math
 import os
 import sys
 import textwrap
@@ -41,8 +42,10 @@ def _epilog() -> str:
 
 class _Parser(argparse.ArgumentParser):
     def error(self, message):
-        self.print_usage(sys.stderr)
-        print(f"pirchain: argument error: {message}", file=sys.stderr)
+        print(
+            f"pirchain: argument error: {terminal_text(message)} (see '{self.prog} --help')",
+            file=sys.stderr,
+        )
         sys.exit(EXIT_DESIGN)
 
 
@@ -86,7 +89,13 @@ def build_parser() -> argparse.ArgumentParser:
     )
     sp.add_argument("--bearing", default="0", help="bearing [°] (default 0)")
     sp.add_argument("--speed", default=None, help="speed [m/s] (default: the design's)")
-    sp.add_argument("--kind", choices=("tangential", "radial"), default="tangential")
+    sp.add_argument(
+        "--kind",
+        choices=("tangential", "radial", "still"),
+        default="tangential",
+        help="walk across, walk towards, or stay still at --distance (for a minor-motion "
+        "target such as scene.target = 'minor_motion_arm')",
+    )
     sp.add_argument("--csv", help="write the waveforms here")
     sp.add_argument("--plot", help="write a PNG of the waveforms here")
     sp.add_argument("--force", action="store_true", help="replace existing output files")
@@ -198,7 +207,7 @@ def cmd_demo_design(args):
 
 
 def cmd_walk(args):
-    from ..physics.scene import radial_path, tangential_path, walks_from_paths
+    from ..physics.scene import Path, radial_path, tangential_path, walks_from_paths
 
     _outputs(args, "--csv", "--plot")
     d = _design(args)
@@ -212,12 +221,16 @@ def cmd_walk(args):
     speed = d.speed if args.speed is None else parse_quantity(args.speed, "--speed", "m/s")
     check_range("--speed", speed, *WALK_SPEED_RANGE, "m/s (a person's speed)")
     check_range("--distance", dist, 0.05, 1000.0, "m")
-    path = (
-        tangential_path(dist, bearing, speed, length=6.0)
-        if args.kind == "tangential"
-        else radial_path(dist + 3.0, max(dist - 3.0, 0.3), bearing, speed)
-    )
-    walk = walks_from_paths([path], path.duration + 4.0, d.analysis.sample_rate)
+    if args.kind == "tangential":
+        path, closest = tangential_path(dist, bearing, speed, length=6.0), dist
+    elif args.kind == "radial":
+        closest = max(dist - 3.0, 0.3)
+        path = radial_path(dist + 3.0, closest, bearing, speed)
+    else:  # standing or seated still (a minor-motion target moves only its arm)
+        b = math.radians(bearing)
+        path, closest = Path(((dist * math.cos(b), dist * math.sin(b)),), speed), dist
+    fs = float(det.sample_rate_for(speed, closest, d.analysis.sample_rate)[0])
+    walk = walks_from_paths([path], max(path.duration, 6.0) + 4.0, fs)
     res = det.simulate(d.target, d.environment, walk, lux=d.lux)
     cols = {
         "time_s": res.time,

@@ -14,6 +14,8 @@ import numpy as np
 
 from ..errors import DesignError
 
+_PSEUDO = ("/proc", "/sys", "/dev")  # kernel views, not places for results
+
 
 def _umask() -> int:
     old = os.umask(0o077)
@@ -39,9 +41,11 @@ def check_output(path, force: bool = False, field: str = "output") -> str:
     except FileNotFoundError:
         if os.path.islink(path):  # a dangling link: writing would create its target
             raise DesignError(field, path, "a file or a link to an existing file") from None
-        folder = os.path.dirname(os.path.abspath(path))
+        folder = os.path.realpath(os.path.dirname(os.path.abspath(path)))
         if not os.path.isdir(folder):
             raise DesignError(field, path, "a path in an existing folder") from None
+        if any(folder == p or folder.startswith(p + "/") for p in _PSEUDO):
+            raise DesignError(field, path, "a file on a disk (not /proc, /sys, /dev)") from None
         if not os.access(folder, os.W_OK | os.X_OK):
             raise DesignError(field, path, "a folder you may write in") from None
         return path

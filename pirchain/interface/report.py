@@ -8,6 +8,8 @@ import html
 import os
 import warnings
 
+import numpy as np
+
 from .. import __version__
 from ..analysis.coverage import side_view, top_view
 from ..analysis.detection_range import range_table
@@ -82,6 +84,20 @@ def _table(header, rows) -> str:
 
 
 @warnings_once()
+def sample_walk_distance(det, walk_distance: float) -> float:
+    """Distance of the report's sample walk [m]: the design's ``walk_distance``, but for a
+    ceiling unit no farther than the median ground distance of its downward beams, so the
+    walk crosses the pattern instead of passing outside it."""
+    if det.mount.kind != "ceiling":
+        return walk_distance
+    el = det.beams().elevation
+    down = el[el < -0.02]
+    if down.size == 0:
+        return walk_distance
+    ground = det.mount.height / np.tan(-down)
+    return float(min(walk_distance, np.median(ground)))
+
+
 def compute(design, progress=None) -> dict:
     """Run every analysis of the report; returns figures (PNG/SVG bytes) and numbers."""
     det, env, a = design.detector, design.environment, design.analysis
@@ -105,11 +121,13 @@ def compute(design, progress=None) -> dict:
     num["noise_total_v"] = budget.total_rms
     num["sensor_noise_pp_v"] = 6.6 * sensor_b.total_rms
     tick(1)
+    dist = sample_walk_distance(det, a.walk_distance)
     walk = walks_from_paths(
-        [tangential_path(a.walk_distance, 0.0, design.speed, length=6.0)],
+        [tangential_path(dist, 0.0, design.speed, length=6.0)],
         6.0 / design.speed + 4.0,
-        a.sample_rate,
+        float(det.sample_rate_for(design.speed, dist, a.sample_rate)[0]),
     )
+    num["walk_distance_m"] = dist
     res = det.simulate(tgt, env, walk, lux=design.lux)
     fig["walk"] = plots.png_bytes(plots.waveforms(res, det))
     num["walk_detected"] = bool(res.detected[0])
@@ -233,7 +251,8 @@ def render(design, data: dict) -> str:
         f"<p>Sensor-referred noise 0.4–10 Hz: {num['sensor_noise_pp_v'] * 1e6:.1f} µV p-p "
         "(common practice: tens of µV p-p).</p>",
         "<h2>Sample walk</h2>",
-        f"<p>Tangential walk at {a.walk_distance:g} m, {design.speed:g} m/s on the boresight: "
+        f"<p>Tangential walk at {num['walk_distance_m']:.3g} m, {design.speed:g} m/s on the "
+        "boresight: "
         f"{'detected' if num['walk_detected'] else 'not detected'}.</p>",
         _img(fig["walk"], "stage waveforms"),
         "<h2>Coverage</h2>",
