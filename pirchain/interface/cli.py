@@ -275,7 +275,10 @@ def cmd_range(args):
     a = d.analysis
     bearings = a.bearings if args.bearings is None else _list(args.bearings, "--bearings")
     kinds = ("tangential", "radial") if args.kind == "both" else (args.kind,)
+    from ..analysis.coverage import COVERAGE_DIAMETER, diameter_from_ranges
+
     prog = Progress("range", True if args.progress else None)
+    results = range_table(d, kinds, bearings, prog)
     rows = [
         {
             "kind": r.kind,
@@ -284,23 +287,30 @@ def cmd_range(args):
             "range_noise_free_m": r.range_noise_free,
             "gaps_m": r.gaps,
         }
-        for r in range_table(d, kinds, bearings, prog)
+        for r in results
     ]
+    data = {"level": a.level, "speed_m_s": d.speed, "ranges": rows}
+    lines = [f"{'walk':>10} {'bearing':>8} {'range m':>8} {'noise-free':>10}  gaps"] + [
+        f"{r['kind']:>10} {r['bearing_deg']:8.1f} {r['range_m']:8.2f} "
+        f"{r['range_noise_free_m']:10.2f}  "
+        + ", ".join(f"{g0:.2f}–{g1:.2f} m" for g0, g1 in r["gaps_m"])
+        for r in rows
+    ]
+    if d.detector.mount.kind == "ceiling":
+        diam = {k: diameter_from_ranges(r for r in results if r.kind == k) for k in kinds}
+        data["coverage_diameter_m"] = diam
+        data["coverage_diameter_means"] = COVERAGE_DIAMETER
+        lines += [f"coverage diameter, {k}: {v:.2f} m" for k, v in diam.items() if v is not None]
     if args.map:
         from ..analysis.coverage import top_view
         from . import plots
 
         m = top_view(d.detector, d.target, d.environment, "tangential", a)
         write_new(args.map, plots.png_bytes(plots.top_view(m, d.detector)), args.force)
-    text = "\n".join(
-        [f"{'walk':>10} {'bearing':>8} {'range m':>8} {'noise-free':>10}  gaps"]
-        + [
-            f"{r['kind']:>10} {r['bearing_deg']:8.1f} {r['range_m']:8.2f} "
-            f"{r['range_noise_free_m']:10.2f}  {r['gaps_m'] or ''}"
-            for r in rows
-        ]
-    )
-    _emit(args, {"level": a.level, "speed_m_s": d.speed, "ranges": rows}, text)
+        if d.detector.mount.kind == "ceiling":
+            data["map_coverage_diameter_m"] = m.diameter(a.level)
+            lines.append(f"coverage diameter on the map, tangential: {m.diameter(a.level):.2f} m")
+    _emit(args, data, "\n".join(lines))
 
 
 def cmd_sweep(args):

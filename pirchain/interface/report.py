@@ -29,6 +29,7 @@ from ..physics.scene import tangential_path, walks_from_paths
 from ..units import format_eng
 from . import plots
 from .cautions import CAUTIONS
+from .design_schema import unit_of
 from .output import terminal_text
 
 SECTIONS = (
@@ -146,7 +147,13 @@ def compute(design, progress=None) -> dict:
     values = a.sensitivity_values or tuple(log_values(50e3, 1e6, 6))
     trade = trade_off(design, a.sensitivity_path, values, a.false_trigger_budget)
     fig["sweep"] = plots.png_bytes(
-        plots.sweep_plot(trade.table, a.sensitivity_path, a.false_trigger_budget, trade.best)
+        plots.sweep_plot(
+            trade.table,
+            a.sensitivity_path,
+            a.false_trigger_budget,
+            trade.best,
+            unit_of(a.sensitivity_path),
+        )  # fmt: skip
     )
     fig["trade"] = plots.png_bytes(plots.trade_off(trade))
     num["sweep_text"] = trade.table.to_text()
