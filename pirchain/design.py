@@ -9,14 +9,18 @@ one. May import the base, the domain packages and :mod:`pirchain.chain`.
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, field
 
 from .chain.detector import Detector
-from .errors import DesignError, check_nonnegative
+from .errors import check_nonnegative, check_range
 from .physics.disturbance import Draught
-from .physics.scene import DEFAULT_TARGET, Environment, Target, target_preset
-from .settings import AnalysisSettings
+from .physics.scene import (
+    DEFAULT_TARGET,
+    Environment,
+    Target,
+    target_preset,
+)
+from .settings import WALK_SPEED_RANGE, AnalysisSettings
 
 
 @dataclass(frozen=True)
@@ -50,11 +54,6 @@ class Design:
     def __post_init__(self):
         if isinstance(self.target, str):
             object.__setattr__(self, "target", target_preset(self.target))
-        if (
-            isinstance(self.speed, bool)
-            or not isinstance(self.speed, (int, float))
-            or not (0 < self.speed <= 20 and math.isfinite(self.speed))
-        ):
-            raise DesignError("scene.speed", self.speed, "a walking speed between 0 and 20 m/s")
+        check_range("scene.speed", self.speed, *WALK_SPEED_RANGE, "m/s (a person's speed)")
         if self.lux is not None:
             check_nonnegative("scene.lux", self.lux, "lux")

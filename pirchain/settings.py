@@ -13,6 +13,14 @@ from dataclasses import dataclass
 
 from .errors import DesignError, check_range, check_real
 
+# speeds the walking-person model stands for [m/s]: the intrusion standards' slow walk
+# (0.1 m/s, EN 50131-2-2, from memory) down to half that, up to a sprint (common practice);
+# outside it the gait and the sampled optics are no longer a person walking
+WALK_SPEED_RANGE = (0.05, 10.0)
+MC_HOURS = (0.01, 1e5)  # simulated hours of a Monte Carlo: at least 36 s, at most ~11 years
+# samples one analysis may run through the chain: about 10 min at the measured 3e7 samples/s
+# (docs/performance.md); beyond, the run is refused before it starts, naming the key
+MAX_WORK = 2e10
 _MAX_GRID = 20_000  # distances, cells or sweep values in one analysis (memory and time bound)
 
 
@@ -36,7 +44,7 @@ class AnalysisSettings:
     level : float
         Required probability of detection for a range.
     trials : int
-        Walks per distance of a range search (random positions relative to the beams).
+        Walks per distance of a range search (positions spread evenly over one beam pitch).
     d_min, d_max, step : float
         Distance grid of a range search [m].
     refine : int
@@ -90,7 +98,7 @@ class AnalysisSettings:
 
     def __post_init__(self):
         f = "analysis."
-        check_range(f + "sample_rate", self.sample_rate, 1.0, 1e5, "Hz")
+        check_range(f + "sample_rate", self.sample_rate, 1.0, 1e4, "Hz")
         check_range(f + "level", self.level, 0.01, 1.0)
         _count(f + "trials", self.trials, 1, 100_000)
         check_range(f + "d_min", self.d_min, 0.05, 1000.0, "m")
@@ -125,14 +133,27 @@ class AnalysisSettings:
                 f + "coverage_cell", self.coverage_cell, "at most a million coverage cells"
             )
         _count(f + "coverage_trials", self.coverage_trials, 1, 10_000)
-        check_range(f + "coverage_speed", self.coverage_speed, 0.01, 20.0, "m/s")
+        check_range(f + "coverage_speed", self.coverage_speed, *WALK_SPEED_RANGE, "m/s")
         check_range(f + "settle_duration", self.settle_duration, 0.1, 1e5, "s")
-        check_range(f + "settle_sample_rate", self.settle_sample_rate, 1.0, 1e5, "Hz")
+        check_range(f + "settle_sample_rate", self.settle_sample_rate, 1.0, 1e4, "Hz")
 
     @property
     def sweep_bearing(self) -> float:
         """Bearing of the range walks of a sweep: the middle listed bearing [°]."""
         return self.bearings[len(self.bearings) // 2]
+
+
+def check_work(field: str, samples: float) -> float:
+    """Refuse an analysis that would push more than :data:`MAX_WORK` samples through the chain
+    (``field`` names the key or option that set its size)."""
+    if not samples <= MAX_WORK:  # also NaN
+        raise DesignError(
+            field,
+            f"{samples:.3g} samples of work",
+            f"an analysis of at most {MAX_WORK:.0e} samples (about 10 min): fewer trials, a "
+            "coarser step or a lower sample rate",
+        )
+    return samples
 
 
 def _numbers(field: str, values, low: float, high: float) -> tuple[float, ...]:

@@ -12,6 +12,7 @@ from scipy import signal
 
 from pirchain.analysis.drift import ramp_response
 from pirchain.analysis.false_triggers import (
+    HOUR,
     YEAR,
     analytic_rate,
     comparator_sources,
@@ -174,3 +175,42 @@ def test_threshold_for_one_false_trigger_per_year():
     lo, hi = LadderWindow(lad.supply, lad.r_top, r_sens, lad.r_bottom).edges()
     assert (hi - lo) / 2 == pytest.approx(th, rel=1e-9)
     assert sensitivity_resistor_for(det, th) == pytest.approx(r_sens)
+
+
+def _noisy(k_sigma, hold, retrigger=True):
+    """The demo with a fixed window k_sigma noise rms from rest: it fires often."""
+    from pirchain.circuit.comparator import FixedWindow, WindowComparator
+
+    det, env = demo_detector(), demo_environment()
+    sigma = analytic_rate(det, env).sigma
+    cmp = WindowComparator(FixedWindow(det.supply.reference, k_sigma * sigma), 0.0)
+    logic = dataclasses.replace(det.logic, hold=hold, retrigger=retrigger, daylight=None)
+    return dataclasses.replace(det, comparator=cmp, logic=logic), env
+
+
+@pytest.mark.parametrize(
+    ("k_sigma", "hold", "retrigger"),
+    [(2.5, 5.0, True), (3.0, 5.0, True), (3.0, 60.0, True), (3.0, 60.0, False)],
+)
+def test_analytic_turn_ons_respect_the_hold_and_lockout(k_sigma, hold, retrigger):
+    # Dead-time models (Knoll, Radiation Detection and Measurement, ch. 4): a fixed hold and
+    # the lockout are non-paralysable (rate ≤ 1/(hold + lockout)), a retriggered hold is
+    # paralysable. Checked against the seeded Monte Carlo of the real logic: within the
+    # factor the Poisson counting approximation is known for (docs/model.md §11: 0.7–0.8).
+    det, env = _noisy(k_sigma, hold, retrigger)
+    est = analytic_rate(det, env)
+    cap = 1.0 / (det.logic.hold + det.logic.lockout)
+    assert est.alarm_rate <= cap
+    mc = monte_carlo_rate(det, env, 4 * HOUR, None, 3)
+    assert mc.alarms >= 20
+    assert 0.5 <= mc.alarm_rate / est.alarm_rate <= 1.5, (mc.alarm_rate, est.alarm_rate)
+
+
+def test_rates_below_the_floor_are_said_so():
+    from pirchain.analysis.false_triggers import RATE_FLOOR_PER_YEAR, format_rate, rate_fields
+
+    assert format_rate(2.25e-311).startswith(f"below {RATE_FLOOR_PER_YEAR:g} per year")
+    assert "Gaussian tail" in format_rate(1e-219)
+    assert format_rate(0.5) == "0.5 per year"
+    assert rate_fields(1e-219)["alarms_below_floor"] is True
+    assert rate_fields(0.5)["alarms_below_floor"] is False

@@ -1,7 +1,14 @@
-"""Results unchanged by the single-engine rework (issue 11): every command of
-``tests/golden/commands.py`` is rerun and compared with the outputs recorded by the code
-before it (commit 43578a2, the two-path chain that ngspice and the published checks of the
-other test files validated).
+"""Results unchanged by refactoring: every command of ``tests/golden/commands.py`` is rerun
+and compared with recorded outputs.
+
+History of the records: first made by the code before the single-engine rework (commit
+43578a2, the two-path chain that ngspice and the published checks of the other test files
+validated), which the rework matched; re-recorded once for the intended changes of the
+hardening work (issue 12): walk positions spread evenly over a beam pitch instead of drawn
+at random (ranges move by the 4-trial sampling spread), each walk sampled at a rate from its
+fastest beam crossing, gaps one grid cell wide, the hold and lockout dead time in the
+analytic turn-on rate, and new JSON fields (rate floor, sweep unit and meaning of "best",
+the report's sample-walk distance).
 
 Comparison: strings, booleans and integers exactly; floating-point numbers within a
 relative 1e-9 (rounding differences of reordered sums, orders above 1e-16 and far below any

@@ -14,8 +14,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..errors import DesignError, check_positive
-from ..settings import AnalysisSettings
+from ..errors import DesignError, check_positive, warnings_once
+from ..settings import AnalysisSettings, check_work
 from .false_triggers import comparator_sources
 from .walk_tests import WalkSet, detect, walk_heading
 
@@ -43,7 +43,38 @@ class CoverageMap:
     speed: float
     walks: int
 
+    def diameter(self, level: float) -> float:
+        """Coverage diameter [m] by :data:`COVERAGE_DIAMETER` (cells whose centre is within
+        half a cell of the point below the detector do not bound it)."""
+        gx, gy = np.meshgrid(self.x, self.y)
+        r = np.hypot(gx, gy)
+        cell = float(np.min(np.diff(self.x))) if self.x.size > 1 else 0.0
+        missed = r[self.probability < level]
+        if missed.size == 0:
+            return 2.0 * float(np.max(r))
+        return 2.0 * max(float(np.min(missed)) - 0.5 * cell, 0.0)
 
+
+#: The one definition of a coverage diameter, used by the range table and the map alike.
+COVERAGE_DIAMETER = (
+    "twice the largest radius around the point below the detector within which every place "
+    "is detected (P(detect) at least the level)"
+)
+
+
+def diameter_from_ranges(results) -> float | None:
+    """Coverage diameter [m] by :data:`COVERAGE_DIAMETER` from range results on several
+    bearings of one walk kind: on each bearing the covered radius is the range, or the start
+    of the first gap if there is one; the diameter is twice the smallest over the bearings.
+    None when there are fewer than three bearings (too few to bound a circle)."""
+    rs = list(results)
+    if len({r.bearing_deg for r in rs}) < 3:
+        return None
+    radius = min((r.gaps[0][0] if r.gaps else r.range) for r in rs)
+    return 2.0 * float(radius)
+
+
+@warnings_once()
 def top_view(
     detector,
     target,
@@ -113,6 +144,10 @@ def top_view(
         head,
         np.full(cx.size, float(s.coverage_speed)),
         2.0 * cell if walk_length is None else float(walk_length),
+    )
+    check_work(
+        "analysis.coverage_cell × coverage_trials × sample_rate",
+        cx.size * (walks.length / s.coverage_speed + 2.5) * s.sample_rate,
     )
     src = comparator_sources(detector, env) if s.noise else None
     hit, _ = detect(

@@ -1,7 +1,7 @@
 """Detection range per bearing: the farthest distance where P(detect) ≥ a level.
 
-P(detect) at a distance is the share of ``trials`` test walks, at random positions relative
-to the beams and with seeded noise, that turn the output on. The range is found on a
+P(detect) at a distance is the share of ``trials`` test walks, at positions spread evenly
+over one beam pitch and with seeded noise, that turn the output on. The range is found on a
 distance grid, then refined by bisection between the farthest grid point that passes and
 the next; distances below the range that fail (walks too fast close in, too slow far out,
 or holes between zones) are reported as gaps rather than smoothed over.
@@ -13,8 +13,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..errors import check_positive
-from ..settings import AnalysisSettings
+from ..errors import check_range, warnings_once
+from ..settings import WALK_SPEED_RANGE, AnalysisSettings, check_work
 from .false_triggers import comparator_sources
 from .walk_tests import beam_pitch, detect, make_walks
 
@@ -37,10 +37,15 @@ class RangeResult:
         Grid [m].
     probability, probability_noise_free : numpy.ndarray
         P(detect) on the grid, with and without noise.
-    range, range_noise_free : float
+    range : float
         Farthest distance meeting the level [m]; 0 if none.
+    range_noise_free : float
+        The same without noise at the comparator. The walk positions are spread evenly over
+        one beam period (not drawn at random), so it depends on the design alone, not on
+        the seed.
     gaps : tuple of (float, float)
-        Grid intervals closer than the range that fail the level [m].
+        Distances closer than the range that fail the level [m]: each gap spans the grid
+        cells (± step/2) of its failing grid distances, so it is at least one step wide.
     sample_rate : float
         Analog sample rate of the walks [Hz].
     trials : int
@@ -90,7 +95,7 @@ def probability_of_detection(
         [°], [m s⁻¹]; broadcast with ``distances``.
     kind : {"tangential", "radial"}
     trials : int
-        Walks per combination, at random positions relative to the beams.
+        Walks per combination, at positions spread evenly over one beam pitch.
     seed : int
         Seed of the positions and the noise.
     noise : bool
@@ -175,8 +180,13 @@ def detection_range(
     steps towards the next grid distance.
     """
     s = AnalysisSettings() if settings is None else settings
-    check_positive("speed", speed, "m/s")
+    check_range("speed", speed, *WALK_SPEED_RANGE, "m/s (a person's speed)")
     grid = np.arange(s.d_min, s.d_max + 1e-9, s.step)
+    walk_samples = (3.0 / speed + 2.5) * s.sample_rate  # 3 m walks and their tail
+    check_work(
+        "analysis.trials × distances × sample_rate",
+        grid.size * s.trials * (2 if s.noise else 1) * walk_samples * (1 + s.refine / grid.size),
+    )
     src = comparator_sources(detector, env) if s.noise else None
     kw = dict(
         bearing_deg=bearing_deg,
@@ -213,11 +223,12 @@ def detection_range(
     rng_free = refined(p_free, False) if s.noise else rng
     k = _farthest(p, s.level)
     gaps, start = [], None
+    half = 0.5 * s.step  # a gap covers the grid cells of its missed distances: never 0 wide
     for i in range(k + 1):
         if p[i] < s.level and start is None:
             start = grid[i]
         if p[i] >= s.level and start is not None:
-            gaps.append((float(start), float(grid[i - 1])))
+            gaps.append((max(float(start) - half, s.d_min), float(grid[i - 1]) + half))
             start = None
     return RangeResult(
         float(bearing_deg), kind, float(speed), float(s.level), grid, p, p_free, rng,
@@ -225,6 +236,7 @@ def detection_range(
     )  # fmt: skip
 
 
+@warnings_once()
 def range_table(design, kinds=("tangential", "radial"), bearings=None, progress=None):
     """:func:`detection_range` of a design for every kind and bearing of its settings.
 

@@ -19,25 +19,64 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..errors import DesignError, ValidityWarning
+from ..errors import DesignError, ValidityWarning, warnings_once
 from ..physics.scene import target_preset
 from .detection_range import detection_range
-from .false_triggers import YEAR, analytic_rate
+from .false_triggers import RATE_FLOOR_PER_YEAR, YEAR, analytic_rate
 from .power_up import power_up
 
 _STEP = re.compile(r"^([A-Za-z_][A-Za-z0-9_]*)(?:\[(\d+)\])?$")
 
 
 def get_path(obj, path: str):
-    """Value at a dotted path (with ``[i]`` indices)."""
+    """Value at a dotted path (with ``[i]`` indices) of a design's fields."""
+    if not isinstance(path, str) or not path or len(path) > 200:
+        raise DesignError("sweep.path", path, "a dotted path such as detector.stages[0].c1")
     for part in path.split("."):
         m = _STEP.match(part)
-        if m is None or not hasattr(obj, m.group(1)):
+        if (
+            m is None
+            or m.group(1).startswith("_")
+            or not dataclasses.is_dataclass(obj)
+            or m.group(1) not in {f.name for f in dataclasses.fields(obj)}
+        ):
             raise DesignError("sweep.path", path, f"an existing field (no '{part}' here)")
         obj = getattr(obj, m.group(1))
         if m.group(2) is not None:
+            if not isinstance(obj, (tuple, list)) or int(m.group(2)) >= len(obj):
+                n = len(obj) if isinstance(obj, (tuple, list)) else 0
+                raise DesignError("sweep.path", path, f"an index below {n} in '{part}'")
             obj = obj[int(m.group(2))]
     return obj
+
+
+def check_sweep_path(design, path: str) -> float | str:
+    """The current value at ``path`` if it names a number of the design (or the target),
+    else :class:`DesignError`: a sweep varies one number (or the target preset)."""
+    value = get_path(design, path)
+    if path == "target":
+        return value.name
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        raise DesignError(
+            "sweep.path", path, f"a numeric parameter (this is a {type(value).__name__})"
+        )
+    return value
+
+
+def best_meaning(path: str) -> str | None:
+    """What the "best" row of a sweep of ``path`` means, or None where it means nothing.
+
+    Best is the most tangential range within the false-trigger budget; that is a choice
+    only for a value of the detector's electronics (a resistor, a capacitor, a threshold, an
+    op-amp or logic setting). For the mounting, the lens, the room, the walker or the
+    analysis settings "more range" is not what one picks them for, so no best is given.
+    """
+    parts = path.split(".")
+    if parts[0] != "detector" or len(parts) < 2:
+        return None
+    if parts[1].split("[")[0] in ("mount", "lens", "name"):
+        return None
+    return "the most tangential range within the false-trigger budget"
 
 
 def set_path(obj, path: str, value):
@@ -110,12 +149,16 @@ class SweepTable:
             vals = [_fmt(r[p]) for p in self.paths] + [
                 f"{r['tangential_range_m']:.2f}",
                 f"{r['radial_range_m']:.2f}",
-                f"{r['false_triggers_per_year']:.3g}",
-                f"{r['settling_s']:.1f}",
+                _rate(r["false_triggers_per_year"]),
+                f"{r['settling_s']:.1f}" if np.isfinite(r["settling_s"]) else "never",
                 f"{r['supply_a'] * 1e6:.1f}",
             ]
             lines.append("  ".join(f"{v:>14s}" for v in vals))
         return "\n".join(lines)
+
+
+def _rate(per_year: float) -> str:
+    return f"{per_year:.3g}" if per_year >= RATE_FLOOR_PER_YEAR else f"< {RATE_FLOOR_PER_YEAR:g}"
 
 
 def _fmt(v) -> str:
@@ -128,11 +171,14 @@ def sweep(
     design, path: str, values, path2: str | None = None, values2=None, progress=None
 ) -> SweepTable:
     """Evaluate the design at every value of one parameter, or on a grid of two."""
-    get_path(design, path)
+    check_sweep_path(design, path)
+    values = list(values)
+    if not values or len(values) > 1000:
+        raise DesignError("sweep.values", len(values), "between 1 and 1000 values")
     grid = [(v,) for v in values]
     paths = (path,)
     if path2 is not None:
-        get_path(design, path2)
+        check_sweep_path(design, path2)
         grid = list(itertools.product(values, values2))
         paths = (path, path2)
     rows = []
@@ -170,13 +216,15 @@ class TradeOff:
         return None if self.best is None else self.table.rows[self.best][self.table.paths[0]]
 
 
+@warnings_once()
 def trade_off(design, path: str, values, budget_per_year: float = 1.0, progress=None) -> TradeOff:
     """Sweep ``path`` and pick the value with the most range within the false-trigger budget."""
+    check_sweep_path(design, path)
     table = sweep(design, path, values, progress=progress)
     rng = table.column("tangential_range_m")
     ok = table.column("false_triggers_per_year") <= budget_per_year
     best = int(np.flatnonzero(ok)[np.argmax(rng[ok])]) if ok.any() else None
-    return TradeOff(table, float(budget_per_year), best)
+    return TradeOff(table, float(budget_per_year), best if best_meaning(path) else None)
 
 
 def log_values(low: float, high: float, n: int) -> list[float]:
@@ -188,6 +236,8 @@ __all__ = [
     "SweepTable",
     "TradeOff",
     "evaluate",
+    "best_meaning",
+    "check_sweep_path",
     "get_path",
     "log_values",
     "set_path",

@@ -8,6 +8,7 @@ compiles for a sample rate and walk length with :meth:`Detector.compile`.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import control
@@ -19,7 +20,7 @@ from ..circuit.stage import chain_transfer_function
 from ..circuit.supply import PowerSupply, SupplyBudget, supply_budget
 from ..errors import DesignError, warn_validity
 from ..logic.rules import PulseLogic
-from ..physics.optics import Beams, Lens, Mount, make_beams
+from ..physics.optics import Beams, Lens, Mount, crossing_frequency, make_beams
 from ..physics.sensor import PyroSensor
 from .engine import TAPS, ChainRun, CompiledChain, WalkOutcomes, compile_chain
 
@@ -82,8 +83,13 @@ class Detector:
         """Quiescent DC level at the source and after every stage [V]."""
         self.require_analog()
         levels = [self.follower.offset]
-        for st in self.stages:
-            levels.append(st.output_dc(levels[-1]))
+        for k, st in enumerate(self.stages):
+            with np.errstate(all="ignore"):
+                levels.append(float(st.output_dc(levels[-1])))
+            if not math.isfinite(levels[-1]):
+                raise DesignError(
+                    f"stages[{k}]", st.name, "part values that give a finite rest level"
+                )
         return levels
 
     def window(self) -> tuple[float, float]:
@@ -99,6 +105,24 @@ class Detector:
                     f"[{lo:.3g}, {hi:.3g}] V: the output would fire for ever"
                 )
         return lo, hi
+
+    def crossing_frequency(self, speed, distance) -> np.ndarray:
+        """Fundamental of the fastest beam-pair crossing of a walk at ``speed`` [m s⁻¹] and
+        horizontal ``distance`` [m] (at least 0.3 m) [Hz], by the thin-lens rule of
+        :func:`pirchain.physics.optics.crossing_frequency` with the lens's longest focal
+        length and the sensor's element spacing."""
+        xs = np.array([e.x for e in self.sensor.elements])
+        spacing = float(np.ptp(xs)) or self.sensor.elements[0].width
+        focal = max(f.focal_length for f in self.lens.facets)
+        return crossing_frequency(speed, np.maximum(distance, 0.3), focal, spacing)
+
+    def sample_rate_for(self, speed, distance, base: float, ceiling: float = 1e4):
+        """Sample rate [Hz] of each walk: ``base`` doubled until the walk's fastest crossing
+        (:meth:`crossing_frequency`) is at most a tenth of it, but no more than ``ceiling``
+        (the waveforms need ten samples per period; the decisions need fewer)."""
+        need = 10.0 * np.atleast_1d(self.crossing_frequency(speed, distance))
+        k = np.ceil(np.log2(np.maximum(need / base, 1.0)))
+        return np.minimum(base * 2.0**k, max(base, ceiling))
 
     def transfer_function(self, gbw: bool = True) -> control.TransferFunction:
         """Comparator-input change per equivalent element power, V/W (python-control)."""

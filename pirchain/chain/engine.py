@@ -24,7 +24,6 @@ import numpy as np
 
 from ..errors import DesignError
 from ..logic.rules import Decision, PulseLogic, Pulses
-from ..physics.optics import crossing_frequency
 from . import tables as tb
 
 TAPS = ("element_power", "equivalent_power", "gate", "source", "stages", "comparator", "events")
@@ -232,9 +231,7 @@ class CompiledChain:
                   dt, arrays, out)  # fmt: skip
         crossing = None
         if start == 0:
-            crossing = crossing_frequency(
-                out.step * self.sample_rate, np.maximum(out.closest, 0.3), *self._pair_geometry
-            )
+            crossing = self.detector.crossing_frequency(out.step * self.sample_rate, out.closest)
         return self._result(taps, arrays, out, crossing)
 
     def _daylight(self, lux, n_w):
@@ -279,14 +276,6 @@ class CompiledChain:
             np.zeros((n_w, cap)),
             np.zeros((n_w, cap)),
         )
-
-    @property
-    def _pair_geometry(self):
-        """(longest focal length, element spacing) of the fastest crossing [m]."""
-        det = self.detector
-        xs = np.array([e.x for e in det.sensor.elements])
-        spacing = float(np.ptp(xs)) or det.sensor.elements[0].width
-        return max(f.focal_length for f in det.lens.facets), spacing
 
     def _result(self, taps, a: tb.TapArrays, out: tb.OutcomeArrays, crossing) -> ChainRun:
         counts = out.counts

@@ -11,7 +11,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from ..errors import check_nonnegative, check_positive, check_real
+from ..errors import check_nonnegative, check_positive, check_range, check_real
 
 
 def source_voltage_at(gate_voltage: float, pinch_off: float, k4: float) -> float:
@@ -62,8 +62,10 @@ class Jfet:
     i_n: float = 1e-16
 
     def __post_init__(self):
-        check_positive("follower.jfet.idss", self.idss, "A")
-        check_positive("follower.jfet.pinch_off", self.pinch_off, "V (magnitude)")
+        # small-signal JFETs: I_DSS of µA to tens of mA, |V_P| of tenths of a volt to a few
+        # volts (common practice); generous bounds keep the square law finite
+        check_range("follower.jfet.idss", self.idss, 1e-7, 1.0, "A")
+        check_range("follower.jfet.pinch_off", self.pinch_off, 0.01, 50.0, "V (magnitude)")
         check_nonnegative("follower.jfet.e_n", self.e_n, "V/√Hz")
         check_nonnegative("follower.jfet.i_n", self.i_n, "A/√Hz")
 

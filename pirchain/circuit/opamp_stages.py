@@ -244,7 +244,7 @@ class InvertingBandPass(_OpAmpBandPass):
         d += (
             elm.Ground()
             if self.v_ref == 0
-            else elm.Vdd().label(f"v_ref {self.v_ref:.3g} V", fontsize=8)
+            else elm.Vdd().label(f"v_ref {self.v_ref:.3g} V", fontsize=10)
         )
         pen.feedback_below(node, op, self.rf, self.cf, index, 1.2)
         pen.output(op, index)

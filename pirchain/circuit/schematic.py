@@ -32,7 +32,7 @@ class SchematicPen:
 
     def to_ground(self, element, label: str, loc: str = "bottom") -> None:
         """A component from the current point down to ground."""
-        self.drawing += element().down().label(label, loc=loc, fontsize=9)
+        self.drawing += element().down().label(label, loc=loc, fontsize=11)
         self.drawing += self.elm.Ground()
 
     def feedback_below(self, node, op, rf: float, cf: float, index: int, drop: float):
@@ -43,20 +43,20 @@ class SchematicPen:
         tap = d.here
         d += (
             elm.Resistor().right().tox(op.out)
-            .label(self.value(f"R{index}f", rf, "Ω"), loc="bottom", fontsize=9)
+            .label(self.value(f"R{index}f", rf, "Ω"), loc="bottom", fontsize=11)
         )  # fmt: skip
         d += elm.Line().up().toy(op.out)
         d += elm.Line().at(tap).down(1.3)
         d += (
             elm.Capacitor().right().tox(op.out)
-            .label(self.value(f"C{index}f", cf, "F"), loc="bottom", fontsize=9)
+            .label(self.value(f"C{index}f", cf, "F"), loc="bottom", fontsize=11)
         )  # fmt: skip
         d += elm.Line().up(1.3)
         return tap
 
     def output(self, op, index: int) -> None:
         """Mark an op-amp's output as the stage output and continue from it."""
-        self.drawing += self.elm.Dot().at(op.out).label(f"out{index}", loc="top", fontsize=8)
+        self.drawing += self.elm.Dot().at(op.out).label(f"out{index}", loc="top", fontsize=10)
         self.drawing.move_from(op.out, 0, 0)
 
 
@@ -66,11 +66,13 @@ def schematic_svg(detector) -> bytes:
     import schemdraw.elements as elm
 
     s, fol = detector.sensor, detector.follower
-    with schemdraw.Drawing(show=False) as d:
-        d.config(unit=2.2, fontsize=9)
+    # schemdraw's own SVG writer: no timestamp, no random ids (the same design gives the same
+    # bytes), text as SVG text that scales with the page
+    with schemdraw.Drawing(canvas="svg", show=False) as d:
+        d.config(unit=2.6, fontsize=12)
         pen = SchematicPen(d, elm)
         d += elm.Ground()
-        d += elm.SourceI().up().label("i_pyro", loc="top", fontsize=9)
+        d += elm.SourceI().up().label("i_pyro", loc="top", fontsize=11)
         gate = d.here
         d += elm.Line().right(2.0)
         pen.to_ground(elm.Resistor, pen.value("R_G", s.gate_resistance, "Ω"))
@@ -83,11 +85,11 @@ def schematic_svg(detector) -> bytes:
             .label(
                 f"I_DSS {format_eng(fol.jfet.idss, 'A')}\n|V_P| {fol.jfet.pinch_off:g} V",
                 loc="left",
-                fontsize=8,
+                fontsize=10,
             )
         )
         d += elm.Line().at(j.drain).up(0.5)
-        d += elm.Vdd().label("V_DD", fontsize=8)
+        d += elm.Vdd().label("V_DD", fontsize=10)
         d += elm.Line().at(j.source).right(1.2)
         src = d.here
         pen.to_ground(elm.Resistor, pen.value("R_S", fol.source_resistance, "Ω"), "top")
@@ -95,5 +97,5 @@ def schematic_svg(detector) -> bytes:
         for k, st in enumerate(detector.stages, start=1):
             st.draw(pen, k)
         d += elm.Line().right(0.8)
-        d += elm.Dot().label("to window comparator", loc="right", fontsize=9)
+        d += elm.Dot().label("to window comparator", loc="right", fontsize=11)
         return d.get_imagedata("svg")

@@ -149,4 +149,4 @@ class TransferStage(Stage):
         """A box labelled H(s)."""
         d, elm = pen.drawing, pen.elm
         d += elm.Line().right(0.5)
-        d += elm.Box(w=2.4, h=1.2).anchor("W").label(f"stage {index}\nH(s)", fontsize=9)
+        d += elm.Box(w=2.4, h=1.2).anchor("W").label(f"stage {index}\nH(s)", fontsize=11)

@@ -1,25 +1,28 @@
 """Command line: ``pirchain [command] [design.toml] ...``.
 
 With no command, writes the full HTML report of the built-in demo design.
-Exit codes: 0 success, 2 bad design or arguments, 3 internal error.
+Exit codes: 0 success, 2 bad design or arguments, 3 internal error, 130 interrupted.
 """
 
 from __future__ import annotations
 
 import argparse
 import dataclasses
+import math
+import os
 import sys
 import textwrap
 import warnings
 
 import numpy as np
 
-from ..errors import DesignError, ValidityWarning
-from ..units import parse_quantity
+from ..errors import DesignError, ValidityWarning, check_range, warnings_once
+from ..settings import MC_HOURS, WALK_SPEED_RANGE, check_work
+from ..units import parse_celsius, parse_quantity
 from .cautions import CAUTIONS
-from .output import Progress, free_name, to_json, write_new
+from .output import Progress, check_output, free_name, terminal_text, to_json, write_new
 
-EXIT_OK, EXIT_DESIGN, EXIT_INTERNAL = 0, 2, 3
+EXIT_OK, EXIT_DESIGN, EXIT_INTERNAL, EXIT_INTERRUPTED = 0, 2, 3, 130
 
 COMMANDS = {
     "check": "validate a design file and print what it describes",
@@ -39,8 +42,10 @@ def _epilog() -> str:
 
 class _Parser(argparse.ArgumentParser):
     def error(self, message):
-        self.print_usage(sys.stderr)
-        print(f"pirchain: argument error: {message}", file=sys.stderr)
+        print(
+            f"pirchain: argument error: {terminal_text(message)} (see '{self.prog} --help')",
+            file=sys.stderr,
+        )
         sys.exit(EXIT_DESIGN)
 
 
@@ -84,7 +89,13 @@ def build_parser() -> argparse.ArgumentParser:
     )
     sp.add_argument("--bearing", default="0", help="bearing [°] (default 0)")
     sp.add_argument("--speed", default=None, help="speed [m/s] (default: the design's)")
-    sp.add_argument("--kind", choices=("tangential", "radial"), default="tangential")
+    sp.add_argument(
+        "--kind",
+        choices=("tangential", "radial", "still"),
+        default="tangential",
+        help="walk across, walk towards, or stay still at --distance (for a minor-motion "
+        "target such as scene.target = 'minor_motion_arm')",
+    )
     sp.add_argument("--csv", help="write the waveforms here")
     sp.add_argument("--plot", help="write a PNG of the waveforms here")
     sp.add_argument("--force", action="store_true", help="replace existing output files")
@@ -122,12 +133,36 @@ def _design(args):
 
     d = demo_design() if getattr(args, "design", None) is None else load(args.design)
     if args.seed is not None:
-        d = dataclasses.replace(d, analysis=dataclasses.replace(d.analysis, seed=args.seed))
+        d = _with_setting(d, "seed", args.seed)
     return d
 
 
+def _outputs(args, *options) -> None:
+    """Check every output file a command will write before any work is done."""
+    seen = {}
+    for opt in options:
+        path = getattr(args, opt.lstrip("-").replace("-", "_"))
+        if path is None:
+            continue
+        check_output(path, getattr(args, "force", False), opt)
+        key = os.path.realpath(path) if path.strip() else path
+        if key in seen:
+            raise DesignError(opt, path, f"a file other than the one given to {seen[key]}")
+        seen[key] = opt
+
+
 def _emit(args, data: dict, text: str) -> None:
-    print(to_json(data) if args.json else text)
+    print(to_json(data) if args.json else terminal_text(text))
+
+
+def _with_setting(design, key: str, value, option: str | None = None):
+    """The design with one analysis setting replaced, checked by the settings' own limits
+    (an error names the command-line option)."""
+    try:
+        a = dataclasses.replace(design.analysis, **{key: value})
+    except DesignError as err:
+        raise DesignError(option or f"--{key.replace('_', '-')}", value, err.expected) from None
+    return dataclasses.replace(design, analysis=a)
 
 
 def _list(text, field, unit=None):
@@ -166,13 +201,15 @@ def cmd_check(args):
 def cmd_demo_design(args):
     from .demo_text import DEMO_TOML
 
+    _outputs(args, "--output")
     write_new(args.output, DEMO_TOML, args.force)
     _emit(args, {"written": args.output}, f"wrote {args.output}")
 
 
 def cmd_walk(args):
-    from ..physics.scene import radial_path, tangential_path, walks_from_paths
+    from ..physics.scene import Path, radial_path, tangential_path, walks_from_paths
 
+    _outputs(args, "--csv", "--plot")
     d = _design(args)
     det = d.detector
     dist = (
@@ -180,16 +217,20 @@ def cmd_walk(args):
         if args.distance is None
         else parse_quantity(args.distance, "--distance", "m")
     )
-    bearing = parse_quantity(args.bearing, "--bearing")
-    speed = d.speed if args.speed is None else parse_quantity(args.speed, "--speed")
-    if dist <= 0 or speed <= 0:
-        raise DesignError("--distance/--speed", (dist, speed), "values > 0")
-    path = (
-        tangential_path(dist, bearing, speed, length=6.0)
-        if args.kind == "tangential"
-        else radial_path(dist + 3.0, max(dist - 3.0, 0.3), bearing, speed)
-    )
-    walk = walks_from_paths([path], path.duration + 4.0, d.analysis.sample_rate)
+    bearing = check_range("--bearing", parse_quantity(args.bearing, "--bearing"), -360, 360, "°")
+    speed = d.speed if args.speed is None else parse_quantity(args.speed, "--speed", "m/s")
+    check_range("--speed", speed, *WALK_SPEED_RANGE, "m/s (a person's speed)")
+    check_range("--distance", dist, 0.05, 1000.0, "m")
+    if args.kind == "tangential":
+        path, closest = tangential_path(dist, bearing, speed, length=6.0), dist
+    elif args.kind == "radial":
+        closest = max(dist - 3.0, 0.3)
+        path = radial_path(dist + 3.0, closest, bearing, speed)
+    else:  # standing or seated still (a minor-motion target moves only its arm)
+        b = math.radians(bearing)
+        path, closest = Path(((dist * math.cos(b), dist * math.sin(b)),), speed), dist
+    fs = float(det.sample_rate_for(speed, closest, d.analysis.sample_rate)[0])
+    walk = walks_from_paths([path], max(path.duration, 6.0) + 4.0, fs)
     res = det.simulate(d.target, d.environment, walk, lux=d.lux)
     cols = {
         "time_s": res.time,
@@ -229,11 +270,15 @@ def cmd_walk(args):
 def cmd_range(args):
     from ..analysis.detection_range import range_table
 
+    _outputs(args, "--map")
     d = _design(args)
     a = d.analysis
     bearings = a.bearings if args.bearings is None else _list(args.bearings, "--bearings")
     kinds = ("tangential", "radial") if args.kind == "both" else (args.kind,)
+    from ..analysis.coverage import COVERAGE_DIAMETER, diameter_from_ranges
+
     prog = Progress("range", True if args.progress else None)
+    results = range_table(d, kinds, bearings, prog)
     rows = [
         {
             "kind": r.kind,
@@ -242,48 +287,83 @@ def cmd_range(args):
             "range_noise_free_m": r.range_noise_free,
             "gaps_m": r.gaps,
         }
-        for r in range_table(d, kinds, bearings, prog)
+        for r in results
     ]
+    data = {"level": a.level, "speed_m_s": d.speed, "ranges": rows}
+    lines = [f"{'walk':>10} {'bearing':>8} {'range m':>8} {'noise-free':>10}  gaps"] + [
+        f"{r['kind']:>10} {r['bearing_deg']:8.1f} {r['range_m']:8.2f} "
+        f"{r['range_noise_free_m']:10.2f}  "
+        + ", ".join(f"{g0:.2f}–{g1:.2f} m" for g0, g1 in r["gaps_m"])
+        for r in rows
+    ]
+    if d.detector.mount.kind == "ceiling":
+        diam = {k: diameter_from_ranges(r for r in results if r.kind == k) for k in kinds}
+        data["coverage_diameter_m"] = diam
+        data["coverage_diameter_means"] = COVERAGE_DIAMETER
+        lines += [f"coverage diameter, {k}: {v:.2f} m" for k, v in diam.items() if v is not None]
     if args.map:
         from ..analysis.coverage import top_view
         from . import plots
 
         m = top_view(d.detector, d.target, d.environment, "tangential", a)
         write_new(args.map, plots.png_bytes(plots.top_view(m, d.detector)), args.force)
-    text = "\n".join(
-        [f"{'walk':>10} {'bearing':>8} {'range m':>8} {'noise-free':>10}  gaps"]
-        + [
-            f"{r['kind']:>10} {r['bearing_deg']:8.1f} {r['range_m']:8.2f} "
-            f"{r['range_noise_free_m']:10.2f}  {r['gaps_m'] or ''}"
-            for r in rows
-        ]
-    )
-    _emit(args, {"level": a.level, "speed_m_s": d.speed, "ranges": rows}, text)
+        if d.detector.mount.kind == "ceiling":
+            data["map_coverage_diameter_m"] = m.diameter(a.level)
+            lines.append(f"coverage diameter on the map, tangential: {m.diameter(a.level):.2f} m")
+    _emit(args, data, "\n".join(lines))
 
 
 def cmd_sweep(args):
-    from ..analysis.sweep import get_path, log_values, trade_off
+    from ..analysis.sweep import best_meaning, check_sweep_path, log_values, trade_off
+    from .design_schema import unit_of
 
     d = _design(args)
+    if args.budget is not None:
+        d = _with_setting(
+            d, "false_trigger_budget", parse_quantity(args.budget, "--budget"), "--budget"
+        )
     a = d.analysis
     path = args.path or a.sensitivity_path
+    current = check_sweep_path(d, path)
+    unit = unit_of(path)
     if args.values is not None:
-        values = _list(args.values, "--values")
+        if path == "target":
+            values = [v.strip() for v in args.values.split(",") if v.strip()]
+        elif unit == "°C":
+            values = [
+                parse_celsius(v.strip(), f"--values[{i}]")
+                for i, v in enumerate(args.values.split(","))
+                if v.strip()
+            ]
+        else:  # the swept key's unit, as the design file reads it: "3m" of a height is 3 m
+            values = _list(args.values, "--values", unit)
     elif path == a.sensitivity_path and a.sensitivity_values:
         values = list(a.sensitivity_values)
+    elif isinstance(current, str) or current <= 0:
+        raise DesignError("--values", None, f"values to sweep {path} over")
     else:
-        v0 = float(get_path(d, path))
-        values = log_values(v0 / 4, v0 * 2, 5)
-    budget = (
-        a.false_trigger_budget if args.budget is None else parse_quantity(args.budget, "--budget")
-    )
+        values = log_values(current / 4, current * 2, 5)
+    budget = a.false_trigger_budget
     tr = trade_off(d, path, values, budget, Progress("sweep", True if args.progress else None))
     rows = [dict(r) for r in tr.table.rows]
-    text = tr.table.to_text() + f"\nbest within {budget:g}/year: {path} = {tr.best_value}"
+    meaning = best_meaning(path)
+    if meaning is None:
+        best_text = f"no best value: {path} is not a value of the electronics"
+    elif tr.best_value is None:
+        best_text = f"no value meets the budget of {budget:g} false triggers per year"
+    else:
+        best_text = f"best ({meaning}, {budget:g}/year): {path} = {tr.best_value}"
     _emit(
         args,
-        {"path": path, "budget_per_year": budget, "best_value": tr.best_value, "rows": rows},
-        text,
+        {
+            "path": path,
+            "unit": unit,
+            "budget_per_year": budget,
+            "best_value": tr.best_value,
+            "best_means": meaning,
+            "rows": rows,
+        },
+        tr.table.to_text() + "\n" + best_text,
     )
 
 
@@ -293,7 +373,9 @@ def cmd_false_triggers(args):
         YEAR,
         analytic_rate,
         comparator_sources,
+        format_rate,
         monte_carlo_rate,
+        rate_fields,
         threshold_for_rate,
     )
     from ..circuit.noise import noise_budget
@@ -310,16 +392,23 @@ def cmd_false_triggers(args):
         "pulse_rate_per_hour": est.pulse_rate * 3600,
         "alarms_per_hour": est.alarm_rate * 3600,
         "alarms_per_day": est.alarm_rate * DAY,
-        "alarms_per_year": est.alarm_rate * YEAR,
+        **rate_fields(est.alarm_rate * YEAR),
         "threshold_for_1_per_year_v": th,
         "sensitivity_resistor_for_1_per_year_ohm": r,
     }
     text = (
-        b.table() + f"\nanalytic: {est.alarm_rate * YEAR:.4g} per year "
-        f"({est.alarm_rate * DAY:.4g} per day)\n1 per year needs a {th * 1e3:.2f} mV threshold"
+        b.table() + f"\nanalytic: {format_rate(est.alarm_rate * YEAR)}"
+        f"\n1 per year needs a {th * 1e3:.2f} mV threshold"
     )
     if args.mc_hours is not None:
-        hours = parse_quantity(args.mc_hours, "--mc-hours")
+        hours = check_range(
+            "--mc-hours",
+            parse_quantity(args.mc_hours, "--mc-hours"),
+            MC_HOURS[0],
+            MC_HOURS[1],
+            "h",
+        )
+        check_work("--mc-hours", hours * 3600 * d.analysis.sample_rate)
         mc = monte_carlo_rate(
             det,
             env,
@@ -348,6 +437,7 @@ def cmd_netlist(args):
     from ..physics.scene import tangential_path, walks_from_paths
     from ..physics.sensor import gate_current
 
+    _outputs(args, "--output")
     d = _design(args)
     fs = d.analysis.sample_rate
     cur = None
@@ -366,8 +456,10 @@ def cmd_netlist(args):
 def cmd_report(args):
     from .report import compute, render
 
+    args.output = args.output if args.output is not None else free_name("pirchain-report", ".html")
+    _outputs(args, "--output")
     d = _design(args)
-    out = args.output or free_name("pirchain-report", ".html")
+    out = args.output
     data = compute(d, Progress("report", True if args.progress else None))
     write_new(out, render(d, data), args.force)
     _emit(
@@ -405,9 +497,10 @@ def main(argv=None) -> int:
         with warnings.catch_warnings():
             warnings.simplefilter("always", ValidityWarning)
             warnings.showwarning = lambda m, *a, **k: print(
-                f"pirchain: warning: {m}", file=sys.stderr
+                f"pirchain: warning: {terminal_text(str(m))}", file=sys.stderr
             )
-            HANDLERS[args.command](args)
+            with warnings_once():  # each kind of warning once per run, with its count
+                HANDLERS[args.command](args)
         return EXIT_OK
     except DesignError as exc:
         print(f"pirchain: design error: {exc}", file=sys.stderr)
@@ -416,7 +509,7 @@ def main(argv=None) -> int:
         return EXIT_OK
     except KeyboardInterrupt:
         print("pirchain: interrupted; nothing half-written was left", file=sys.stderr)
-        return EXIT_INTERNAL
+        return EXIT_INTERRUPTED
     except Exception as exc:  # noqa: BLE001 - one line for the user, traceback on --debug
         if getattr(args, "debug", False):
             raise

@@ -11,6 +11,8 @@ from __future__ import annotations
 
 import dataclasses
 import difflib
+import os
+import stat
 import tomllib
 
 from ..chain.detector import Detector
@@ -301,22 +303,71 @@ def design_from_dict(data: dict) -> Design:
     )
 
 
+MAX_FILE_BYTES = 1 << 20  # a design file is a few kB; 1 MiB is far more than any needs
+MAX_NESTING = 12  # the deepest table of the schema is 4 levels down
+
+
+def _depth(text: str) -> int:
+    """Deepest bracket nesting of the text outside strings and comments (a cheap upper
+    bound on the TOML nesting, computed before parsing)."""
+    deep = level = 0
+    quote = None
+    i, n = 0, len(text)
+    while i < n:
+        ch = text[i]
+        if quote:
+            if ch == "\\" and quote == '"':
+                i += 1
+            elif ch == quote:
+                quote = None
+        elif ch in "\"'":
+            quote = ch
+        elif ch == "#":
+            j = text.find("\n", i)
+            i = n if j < 0 else j
+            continue
+        elif ch in "[{":
+            level += 1
+            deep = max(deep, level)
+        elif ch in "]}":
+            level = max(level - 1, 0)
+        i += 1
+    return deep
+
+
 def loads(text: str) -> Design:
-    """Parse design-file text."""
+    """Parse design-file text (a leading UTF-8 byte-order mark is allowed)."""
+    if not isinstance(text, str):
+        raise DesignError("file", type(text).__name__, "design-file text")
+    text = text.removeprefix("\ufeff")
+    if len(text) > MAX_FILE_BYTES:
+        raise DesignError("file", f"{len(text)} characters", f"at most {MAX_FILE_BYTES} (1 MiB)")
+    if _depth(text) > MAX_NESTING:
+        raise DesignError("file", "deeply nested tables or lists", f"at most {MAX_NESTING} levels")
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as err:
         raise DesignError("file", "TOML", f"valid TOML ({err})") from None
+    except (ValueError, RecursionError, MemoryError) as err:  # e.g. a 5 000-digit integer
+        why = str(err).split("\n")[0][:80] or type(err).__name__
+        raise DesignError("file", "TOML", f"valid TOML with sensible numbers ({why})") from None
     return design_from_dict(data)
 
 
 def load(path) -> Design:
-    """Load a design file."""
+    """Load a design file: a regular file of at most 1 MiB of UTF-8 TOML."""
     try:
         with open(path, "rb") as fh:
-            raw = fh.read()
+            st = os.fstat(fh.fileno())
+            if not stat.S_ISREG(st.st_mode):
+                raise DesignError(
+                    "file", str(path), "a regular file (not a device, pipe or folder)"
+                )
+            raw = fh.read(MAX_FILE_BYTES + 1)
     except OSError as err:
         raise DesignError("file", str(path), f"a readable design file ({err.strerror})") from None
+    if len(raw) > MAX_FILE_BYTES:
+        raise DesignError("file", str(path), "a design file of at most 1 MiB")
     try:
         text = raw.decode("utf-8")
     except UnicodeDecodeError:

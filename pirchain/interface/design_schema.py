@@ -301,3 +301,25 @@ def default(spec, key: str):
     """The default of a schema entry (resolving :class:`From`)."""
     value = spec[2]
     return value.resolve(key) if isinstance(value, From) else value
+
+
+def _units(schema: dict, out: dict) -> dict:
+    for key, spec in schema.items():
+        if spec[0] in ("section", "tables"):
+            _units(spec[1], out)
+        elif spec[0] == "q":
+            out.setdefault(key, spec[1])
+        elif spec[0] == "celsius":
+            out.setdefault(key, "°C")
+    return out
+
+
+KEY_UNITS = _units(SCHEMA, {})  # unit of every quantity key, by key name (one unit each)
+
+
+def unit_of(path: str) -> str | None:
+    """Unit of the quantity a dotted sweep path ends in (by its key name), as the design file
+    reads it: so "3m" is 3 m for a length and 3 milli-units for anything else, in a design
+    file and on the command line alike."""
+    leaf = path.rsplit(".", 1)[-1].split("[", 1)[0]
+    return KEY_UNITS.get(leaf)

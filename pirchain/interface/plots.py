@@ -18,6 +18,8 @@ plt.rcParams.update(
         "grid.alpha": 0.3,
         "figure.dpi": 110,
         "savefig.bbox": "tight",
+        "text.parse_math": False,  # user names are plain text: "$" is a dollar sign
+        "svg.hashsalt": "pirchain",  # the same figure gives the same SVG ids
     }
 )
 
@@ -66,8 +68,9 @@ def waveforms(result, detector, walk: int = 0):
     axes[-1].axhline(hi, color="C3", ls="--", lw=1)
     for d in result.decisions[walk].triggers:
         axes[-1].axvline(d, color="C2", lw=1)
-    axes[-1].legend(loc="upper right", fontsize=8)
+    axes[-1].legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=8)
     axes[-1].set_xlabel("time [s]")
+    fig.align_ylabels(axes)  # one column of labels, not a ragged edge
     return fig
 
 
@@ -133,17 +136,18 @@ def range_by_bearing(results):
     ax.set_thetamin(-90)
     ax.set_thetamax(90)
     ax.set_title("Detection range per bearing [m]")
-    ax.legend(loc="lower left", fontsize=8)
+    ax.legend(loc="upper left", bbox_to_anchor=(1.02, 1.0), fontsize=8)  # clear of the ticks
     return fig
 
 
-def sweep_plot(table, path: str, budget: float | None = None, best=None):
+def sweep_plot(table, path: str, budget: float | None = None, best=None, unit=None):
     """Range and false triggers against a swept parameter (log x)."""
     x = np.array([r[path] for r in table.rows], dtype=float)
     fig, ax = plt.subplots(figsize=(7, 4))
     ax.semilogx(x, table.column("tangential_range_m"), "o-", label="tangential range")
     ax.semilogx(x, table.column("radial_range_m"), "s--", label="radial range")
-    ax.set_xlabel(path.split(".")[-1] + " [SI unit]")
+    unit = {"ohm": "Ω"}.get(unit, unit)
+    ax.set_xlabel(path.split(".")[-1] + (f" [{unit}]" if unit else ""))
     ax.set_ylabel("range [m]")
     ax2 = ax.twinx()
     fy = np.clip(table.column("false_triggers_per_year"), 1e-12, None)
@@ -155,7 +159,7 @@ def sweep_plot(table, path: str, budget: float | None = None, best=None):
         ax.axvline(x[best], color="C2", lw=1.5, label="chosen")
     h1, l1 = ax.get_legend_handles_labels()
     h2, l2 = ax2.get_legend_handles_labels()
-    ax.legend(h1 + h2, l1 + l2, fontsize=8, loc="center right")
+    ax.legend(h1 + h2, l1 + l2, fontsize=8, loc="upper left", bbox_to_anchor=(1.15, 1.0))
     ax.set_title("Range and false triggers against " + path.split(".")[-1])
     return fig
 
@@ -177,7 +181,7 @@ def trade_off(trade):
     ax.set_xlabel("false triggers per year (floored at 1e-12)")
     ax.set_ylabel("tangential range [m]")
     ax.set_title("Trade-off across the sensitivity setting")
-    ax.legend(fontsize=8)
+    ax.legend(fontsize=8, loc="upper left", bbox_to_anchor=(1.01, 1.0))
     return fig
 
 

@@ -5,7 +5,10 @@ from __future__ import annotations
 import base64
 import datetime
 import html
+import os
 import warnings
+
+import numpy as np
 
 from .. import __version__
 from ..analysis.coverage import side_view, top_view
@@ -21,11 +24,13 @@ from ..analysis.power_up import power_up
 from ..analysis.sweep import log_values, trade_off
 from ..circuit.noise import noise_budget, sensor_sources
 from ..circuit.schematic import schematic_svg
-from ..errors import ValidityWarning
+from ..errors import ValidityWarning, warnings_once
 from ..physics.scene import tangential_path, walks_from_paths
 from ..units import format_eng
 from . import plots
 from .cautions import CAUTIONS
+from .design_schema import unit_of
+from .output import terminal_text
 
 SECTIONS = (
     "Design summary",
@@ -43,30 +48,55 @@ SECTIONS = (
 )
 
 
+def _today() -> str:
+    """The report's date: SOURCE_DATE_EPOCH if set (the reproducible-builds convention, for
+    byte-identical reports on any day), else today."""
+    epoch = os.environ.get("SOURCE_DATE_EPOCH", "")
+    if epoch.isdigit() and len(epoch) <= 12:
+        return datetime.datetime.fromtimestamp(int(epoch), datetime.UTC).date().isoformat()
+    return datetime.date.today().isoformat()
+
+
+def _esc(x) -> str:
+    """User or report text for HTML: control and bidi characters removed, then escaped."""
+    return html.escape(terminal_text(str(x)))
+
+
 def _img(png: bytes, alt: str) -> str:
-    return (
-        f'<img alt="{html.escape(alt)}" src="data:image/png;base64,'
-        f'{base64.b64encode(png).decode()}">'
-    )
+    return f'<img alt="{_esc(alt)}" src="data:image/png;base64,{base64.b64encode(png).decode()}">'
 
 
 def _svg(svg: bytes, alt: str) -> str:
     return (
-        f'<img alt="{html.escape(alt)}" src="data:image/svg+xml;base64,'
-        f'{base64.b64encode(svg).decode()}">'
+        f'<img alt="{_esc(alt)}" src="data:image/svg+xml;base64,{base64.b64encode(svg).decode()}">'
     )
 
 
 def _pre(text: str) -> str:
-    return f"<pre>{html.escape(text)}</pre>"
+    return f"<pre>{_esc(text)}</pre>"
 
 
 def _table(header, rows) -> str:
-    h = "".join(f"<th>{html.escape(str(x))}</th>" for x in header)
+    h = "".join(f"<th>{_esc(str(x))}</th>" for x in header)
     body = "".join(
-        "<tr>" + "".join(f"<td>{html.escape(str(x))}</td>" for x in r) + "</tr>" for r in rows
-    )
-    return f"<table><tr>{h}</tr>{body}</table>"
+        "<tr>" + "".join(f"<td><bdi>{_esc(x)}</bdi></td>" for x in r) + "</tr>" for r in rows
+    )  # <bdi>: a user string cannot reorder the text around it
+    return f"<div class='wide'><table><tr>{h}</tr>{body}</table></div>"
+
+
+@warnings_once()
+def sample_walk_distance(det, walk_distance: float) -> float:
+    """Distance of the report's sample walk [m]: the design's ``walk_distance``, but for a
+    ceiling unit no farther than the median ground distance of its downward beams, so the
+    walk crosses the pattern instead of passing outside it."""
+    if det.mount.kind != "ceiling":
+        return walk_distance
+    el = det.beams().elevation
+    down = el[el < -0.02]
+    if down.size == 0:
+        return walk_distance
+    ground = det.mount.height / np.tan(-down)
+    return float(min(walk_distance, np.median(ground)))
 
 
 def compute(design, progress=None) -> dict:
@@ -92,11 +122,13 @@ def compute(design, progress=None) -> dict:
     num["noise_total_v"] = budget.total_rms
     num["sensor_noise_pp_v"] = 6.6 * sensor_b.total_rms
     tick(1)
+    dist = sample_walk_distance(det, a.walk_distance)
     walk = walks_from_paths(
-        [tangential_path(a.walk_distance, 0.0, design.speed, length=6.0)],
+        [tangential_path(dist, 0.0, design.speed, length=6.0)],
         6.0 / design.speed + 4.0,
-        a.sample_rate,
+        float(det.sample_rate_for(design.speed, dist, a.sample_rate)[0]),
     )
+    num["walk_distance_m"] = dist
     res = det.simulate(tgt, env, walk, lux=design.lux)
     fig["walk"] = plots.png_bytes(plots.waveforms(res, det))
     num["walk_detected"] = bool(res.detected[0])
@@ -115,7 +147,13 @@ def compute(design, progress=None) -> dict:
     values = a.sensitivity_values or tuple(log_values(50e3, 1e6, 6))
     trade = trade_off(design, a.sensitivity_path, values, a.false_trigger_budget)
     fig["sweep"] = plots.png_bytes(
-        plots.sweep_plot(trade.table, a.sensitivity_path, a.false_trigger_budget, trade.best)
+        plots.sweep_plot(
+            trade.table,
+            a.sensitivity_path,
+            a.false_trigger_budget,
+            trade.best,
+            unit_of(a.sensitivity_path),
+        )  # fmt: skip
     )
     fig["trade"] = plots.png_bytes(plots.trade_off(trade))
     num["sweep_text"] = trade.table.to_text()
@@ -143,7 +181,7 @@ def render(design, data: dict) -> str:
     """The HTML text of the report."""
     det, env, a = design.detector, design.environment, design.analysis
     fig, num = data["figures"], data["numbers"]
-    name = html.escape(det.name)
+    name = _esc(det.name)  # in <title>; in the page it is also isolated with <bdi>
     s = det.sensor
     summary = [
         ("design", det.name),
@@ -198,14 +236,16 @@ def render(design, data: dict) -> str:
     best = num["best_value"]
     parts = [
         "<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'>",
+        "<meta name='viewport' content='width=device-width, initial-scale=1'>",
         f"<title>pirchain report: {name}</title>",
         "<style>body{font-family:sans-serif;max-width:60em;margin:auto;padding:1em;color:#111}"
-        "img{max-width:100%}table{border-collapse:collapse}td,th{border:1px solid #999;"
+        "img{max-width:100%;height:auto}.wide{overflow-x:auto}"
+        "table{border-collapse:collapse}td,th{border:1px solid #999;"
         "padding:2px 6px;font-size:90%}pre{background:#f4f4f4;padding:.5em;overflow-x:auto}"
         ".caution{border:2px solid #b00;padding:.6em;background:#fff4f4}</style></head><body>",
-        f"<h1>pirchain report: {name}</h1>",
-        f"<p>Generated {datetime.date.today().isoformat()} by pirchain {__version__}.</p>",
-        f"<p class='caution'><b>Caution.</b> {html.escape(CAUTIONS)}</p>",
+        f"<h1>pirchain report: <bdi>{name}</bdi></h1>",
+        f"<p>Generated {_today()} by pirchain {__version__}.</p>",
+        f"<p class='caution'><b>Caution.</b> {_esc(CAUTIONS)}</p>",
         "<h2>Design summary</h2>",
         _table(("item", "value"), summary),
         "<h2>Schematic</h2>",
@@ -218,7 +258,8 @@ def render(design, data: dict) -> str:
         f"<p>Sensor-referred noise 0.4–10 Hz: {num['sensor_noise_pp_v'] * 1e6:.1f} µV p-p "
         "(common practice: tens of µV p-p).</p>",
         "<h2>Sample walk</h2>",
-        f"<p>Tangential walk at {a.walk_distance:g} m, {design.speed:g} m/s on the boresight: "
+        f"<p>Tangential walk at {num['walk_distance_m']:.3g} m, {design.speed:g} m/s on the "
+        "boresight: "
         f"{'detected' if num['walk_detected'] else 'not detected'}.</p>",
         _img(fig["walk"], "stage waveforms"),
         "<h2>Coverage</h2>",
@@ -238,11 +279,11 @@ def render(design, data: dict) -> str:
         "<h2>Trade-off</h2>",
         _img(fig["trade"], "trade-off"),
         f"<p>Most range within {a.false_trigger_budget:g} false trigger(s) per year: "
-        f"{html.escape(a.sensitivity_path)} = "
-        f"{html.escape(format_eng(best, '') if best is not None else 'none meets the budget')}."
+        f"{_esc(a.sensitivity_path)} = "
+        f"{_esc(format_eng(best, '') if best is not None else 'none meets the budget')}."
         f" One false trigger per year at a {num['threshold_1_per_year_v'] * 1e3:.1f} mV threshold"
-        + (f" ({html.escape(format_eng(r1, 'Ω'))} sensitivity resistor)" if r1 else "")
-        + f". The design as drawn: {html.escape(format_rate(num['false_per_year']))}.</p>",
+        + (f" ({_esc(format_eng(r1, 'Ω'))} sensitivity resistor)" if r1 else "")
+        + f". The design as drawn: {_esc(format_rate(num['false_per_year']))}.</p>",
         "<h2>Power-up and supply</h2>",
         _img(fig["power_up"], "power-up"),
         f"<p>Settling (warm-up) time: {num['settling_s']:.1f} s.</p>",
@@ -258,7 +299,7 @@ def render(design, data: dict) -> str:
         "the draught parameters are illustrative unless measured.</li>",
         "<li>Walk-test speeds of EN 50131-2-2 are from memory; lighting walk per NEMA WD 7.</li>",
         "</ul>",
-        f"<h2>Cautions</h2><p class='caution'>{html.escape(CAUTIONS)}</p>",
+        f"<h2>Cautions</h2><p class='caution'>{_esc(CAUTIONS)}</p>",
         "</body></html>",
     ]
     return "\n".join(parts)
