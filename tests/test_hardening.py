@@ -257,7 +257,11 @@ def test_sweep_values_take_the_unit_of_the_swept_key():
 
 def test_user_text_is_plain_text_everywhere(tmp_path, monkeypatch):
     name = r"Lab $x^2$ \u202Eevil\u202C \u001B[31mred"  # TOML escapes: the real characters
-    path = design(tmp_path, DEMO_TOML.replace("(demo)", name, 1))
+    text = DEMO_TOML.replace("(demo)", name, 1)
+    stage = "stage 1 (non-inverting)"
+    assert stage in text
+    # a "$" pair that matplotlib could not even parse as a formula
+    path = design(tmp_path, text.replace(stage, r"stage $\\nosuchcommand{$ 1", 1))
     code, out, err = run(["check", path])
     assert code == 0 and "\x1b" not in out and "\u202e" not in out
     assert run(["walk", path, "--plot", tmp_path / "w.png"])[0] == 0  # "$" is no formula

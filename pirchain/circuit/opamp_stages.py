@@ -173,8 +173,8 @@ class NonInvertingBandPass(_OpAmpBandPass):
         d += elm.Line().at(op.in1).left(0.6)
         tap = pen.feedback_below(d.here, op, self.rf, self.cf, index, 1.2)
         d += elm.Line().at(tap).left(1.5)
-        d += elm.Resistor().down().label(pen.value(f"R{index}1", self.r1, "Ω"), loc="bottom")
-        d += elm.Capacitor().down().label(pen.value(f"C{index}1", self.c1, "F"), loc="bottom")
+        d += elm.Resistor().down().label(pen.value(f"R{index}1", self.r1, "Ω"), loc="top")
+        d += elm.Capacitor().down().label(pen.value(f"C{index}1", self.c1, "F"), loc="top")
         d += elm.Ground()
         pen.output(op, index)
 

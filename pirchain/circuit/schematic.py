@@ -74,28 +74,29 @@ def schematic_svg(detector) -> bytes:
         d += elm.Ground()
         d += elm.SourceI().up().label("i_pyro", loc="top", fontsize=11)
         gate = d.here
-        d += elm.Line().right(2.0)
+        d += elm.Line().right(2.6)
         pen.to_ground(elm.Resistor, pen.value("R_G", s.gate_resistance, "Ω"))
-        d += elm.Line().at(gate).right(4.0)
+        d += elm.Line().at(gate).right(5.6)
         pen.to_ground(elm.Capacitor, pen.value("C_gate", s.gate_capacitance, "F"))
-        d += elm.Line().at(gate).right(6.0)
+        d += elm.Line().at(gate).right(8.6)
         j = d.add(
             elm.JFetN()
             .anchor("gate")
             .label(
                 f"I_DSS {format_eng(fol.jfet.idss, 'A')}\n|V_P| {fol.jfet.pinch_off:g} V",
-                loc="left",
+                loc="right",
+                ofst=(0.9, 0.6),
                 fontsize=10,
             )
         )
         d += elm.Line().at(j.drain).up(0.5)
         d += elm.Vdd().label("V_DD", fontsize=10)
-        d += elm.Line().at(j.source).right(1.2)
+        d += elm.Line().at(j.source).right(2.4)
         src = d.here
         pen.to_ground(elm.Resistor, pen.value("R_S", fol.source_resistance, "Ω"), "top")
         d += elm.Line().at(src).right(2.5)
         for k, st in enumerate(detector.stages, start=1):
             st.draw(pen, k)
         d += elm.Line().right(0.8)
-        d += elm.Dot().label("to window comparator", loc="right", fontsize=11)
+        d += elm.Dot().label("to the window\ncomparator", loc="bottom", fontsize=11)
         return d.get_imagedata("svg")

@@ -11,6 +11,8 @@ matplotlib.use("Agg")
 import matplotlib.pyplot as plt  # noqa: E402
 import numpy as np  # noqa: E402
 
+from .output import terminal_text  # noqa: E402
+
 plt.rcParams.update(
     {
         "font.size": 10,
@@ -18,10 +20,15 @@ plt.rcParams.update(
         "grid.alpha": 0.3,
         "figure.dpi": 110,
         "savefig.bbox": "tight",
-        "text.parse_math": False,  # user names are plain text: "$" is a dollar sign
         "svg.hashsalt": "pirchain",  # the same figure gives the same SVG ids
     }
 )
+
+
+def plain(text: str) -> str:
+    """User text for a figure: control characters removed and "$" shown as a dollar sign
+    (matplotlib reads a pair of "$" as a formula; the axes' own tick labels need that)."""
+    return terminal_text(str(text)).replace("$", r"\$")
 
 
 def png_bytes(fig) -> bytes:
@@ -56,7 +63,7 @@ def waveforms(result, detector, walk: int = 0):
         ("JFET source [V]", result.source_voltage[walk]),
     ]
     rows += [
-        (f"{st.name} output [V]", out[walk])
+        (f"{plain(st.name)} output [V]", out[walk])
         for st, out in zip(detector.stages, result.stage_outputs, strict=True)
     ]
     fig, axes = plt.subplots(len(rows), 1, figsize=(7, 1.7 * len(rows)), sharex=True)
@@ -92,7 +99,7 @@ def top_view(cmap, detector, title: str = ""):
     ax.set_ylim(ext[2], ext[3])
     ax.set_xlabel("x along boresight [m]")
     ax.set_ylabel("y [m]")
-    ax.set_title(title or f"Top view: {cmap.kind} walks at {cmap.speed:g} m/s")
+    ax.set_title(plain(title) if title else f"Top view: {cmap.kind} walks at {cmap.speed:g} m/s")
     ax.legend(loc="upper right", fontsize=8)
     return fig
 
@@ -205,7 +212,7 @@ def power_up(pu):
 def noise_psd(sources, f=None):
     """PSD of the largest noise sources and the total at the comparator input."""
     f = np.geomspace(0.01, 100.0, 500) if f is None else f
-    psds = [(s.name, s.psd(f)) for s in sources]
+    psds = [(plain(s.name), s.psd(f)) for s in sources]
     total = np.sum([p for _, p in psds], axis=0)
     psds.sort(key=lambda x: -np.trapezoid(x[1], f))
     fig, ax = plt.subplots(figsize=(7, 4))
