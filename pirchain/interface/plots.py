@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import io
 import math
+import textwrap
 
 import matplotlib
 
@@ -66,10 +67,10 @@ def waveforms(result, detector, walk: int = 0):
         (f"{plain(st.name)} output [V]", out[walk])
         for st, out in zip(detector.stages, result.stage_outputs, strict=True)
     ]
-    fig, axes = plt.subplots(len(rows), 1, figsize=(7, 1.7 * len(rows)), sharex=True)
+    fig, axes = plt.subplots(len(rows), 1, figsize=(7, 2.0 * len(rows)), sharex=True)
     for ax, (label, y) in zip(axes, rows, strict=True):
         ax.plot(t, y, lw=1)
-        ax.set_ylabel(label, fontsize=8)
+        ax.set_ylabel(textwrap.fill(label, 16), fontsize=8)  # short lines: no collisions
     lo, hi = result.window
     axes[-1].axhline(lo, color="C3", ls="--", lw=1, label="window")
     axes[-1].axhline(hi, color="C3", ls="--", lw=1)

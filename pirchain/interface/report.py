@@ -67,8 +67,10 @@ def _img(png: bytes, alt: str) -> str:
 
 
 def _svg(svg: bytes, alt: str) -> str:
+    # at its own size, scrolling sideways on a narrow screen: shrunk, its text is unreadable
     return (
-        f'<img alt="{_esc(alt)}" src="data:image/svg+xml;base64,{base64.b64encode(svg).decode()}">'
+        f'<div class="wide"><img style="max-width:none;width:60em" alt="{_esc(alt)}" '
+        f'src="data:image/svg+xml;base64,{base64.b64encode(svg).decode()}"></div>'
     )
 
 
