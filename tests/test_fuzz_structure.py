@@ -155,3 +155,35 @@ def test_structural_fuzz_gives_one_line_or_finite_json(block, tmp_path):
             assert _finite(json.loads(out)), (k, out)
             accepted += 1
     assert rejected > CASES // 8 and accepted > 0, (accepted, rejected)
+
+
+OPTION_JUNK = ["", "-1", "0", "1e309", "nan", "inf", "4k7", "1e-300", "abc", "3m", "∞", "1,2",
+               "10000000", "--", "-0", "1e5", " ", "\u202e1", "1e-9"]  # fmt: skip
+COMMAND_OPTIONS = {
+    "walk": ["--distance", "--bearing", "--speed", "--kind"],
+    "netlist": ["--walk-distance"],
+    "false-triggers": [],
+    "check": ["--seed"],
+}
+
+
+def test_seeded_bad_command_lines(tmp_path):
+    # every command line either runs (exit 0) or is refused with one line (exit 2)
+    rng = random.Random(81)
+    for k in range(60):
+        cmd = rng.choice(list(COMMAND_OPTIONS))
+        argv = [cmd]
+        for opt in rng.sample(COMMAND_OPTIONS[cmd], min(2, len(COMMAND_OPTIONS[cmd]))):
+            argv += [f"{opt}={rng.choice(OPTION_JUNK)}"]
+        if cmd == "netlist":
+            argv += ["-o", str(tmp_path / f"n{k}.cir")]
+        out, err = io.StringIO(), io.StringIO()
+        with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
+            try:
+                code = main(argv)
+            except SystemExit as stop:
+                code = stop.code
+        lines = [ln for ln in err.getvalue().splitlines() if "warning" not in ln]
+        assert code in (0, 2), (argv, err.getvalue())
+        if code == 2:
+            assert len(lines) == 1, (argv, err.getvalue())
