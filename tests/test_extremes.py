@@ -1,5 +1,8 @@
 """Reliability (docs/validation.md).
 
+Sources: no outside values; the checks are invariants any numerical model must keep
+(finite results, no hang, atomic writes, reproducible bytes: common practice).
+
 Extreme but legal inputs give finite results or a ValidityWarning of our own class, never
 NaN or a hang; outputs are atomic; the same inputs and seed give byte-identical JSON."""
 

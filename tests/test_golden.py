@@ -1,6 +1,10 @@
 """Results unchanged by refactoring: every command of ``tests/golden/commands.py`` is rerun
 and compared with recorded outputs.
 
+Source of the values: the records in ``tests/golden/``, not an outside reference; the
+outside checks (ngspice, the published formulas and tables) are those of the other test
+files, which the recording code passed.
+
 History of the records: first made by the code before the single-engine rework (commit
 43578a2, the two-path chain that ngspice and the published checks of the other test files
 validated), which the rework matched; re-recorded once for the intended changes of the

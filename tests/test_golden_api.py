@@ -4,6 +4,9 @@ power-up, ambient ramp and HVAC responses, Monte Carlo counts and coverage maps 
 the values the code before the single-engine rework recorded in tests/golden/api.json
 (its script: tests/golden/api_before.py.txt, written against the old API).
 
+Source of the values: tests/golden/api.json, recorded by our own earlier code (not an
+outside reference; the outside checks are those of the other test files).
+
 Comparison: counts and decisions exactly; voltages within 1e-9 V.
 """
 

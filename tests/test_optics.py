@@ -1,6 +1,10 @@
 """Lens optics, as the chain's pass computes them: the distance laws of radiometry
 (P = L A cos θ Ω; Boyd 1983) and the thin-lens timing of a beam-pair crossing, lobes
-d·s/(f·v) apart (Born & Wolf)."""
+d·s/(f·v) apart (Born & Wolf).
+
+Sources: R. W. Boyd, Radiometry and the Detection of Optical Radiation (Wiley, 1983), the
+throughput and inverse-square laws; M. Born & E. Wolf, Principles of Optics, the thin-lens
+image of an element (both from memory for the chapter; the laws are textbook)."""
 
 import dataclasses
 import math

@@ -87,7 +87,7 @@ def test_noise_free_range_is_where_the_peak_falls_to_threshold():
     det = single_pulse(demo_detector(), th)
     rng = nf_range(det, adult())
     d = np.linspace(rng - 3, rng + 3, 61)
-    walks = make_walks(d, 0.0, 1.0, "tangential", 3.0, 1, 0.0, 0)
+    walks = make_walks(d, 0.0, 1.0, "tangential", 3.0, 1, 0.0)
     hit, peak = detect(det, adult(), ENV, walks)
     np.testing.assert_array_equal(hit, peak > th)  # single-pulse logic fires iff peak > V
     cross = d[np.flatnonzero(peak > th)[-1]]
@@ -119,7 +119,7 @@ def test_inverse_square_with_flat_chain_and_small_target():
         det, comparator=WindowComparator(FixedWindow(det.rest_levels()[-1], 1.0))
     )
     d = np.array([2.0, 3.0, 4.0, 6.0, 8.0, 10.0])
-    walks = make_walks(d, 0.0, 1.0, "tangential", 2.0, 1, 0.0, 0)
+    walks = make_walks(d, 0.0, 1.0, "tangential", 2.0, 1, 0.0)
     _, peak = detect(det, fixed_target(40.0, 0.02, 0.99, 1.01), ENV, walks, sample_rate=1000.0)
     pd2 = peak * d**2
     assert np.ptp(pd2) / pd2.mean() < 0.05

@@ -1,6 +1,10 @@
 """The README's two commands work pasted verbatim, as root on a machine without sudo and as
 a user with sudo (the brief's rule). The commands run in ``sh`` against stand-in programs
-that record their arguments, so what would be executed is checked without installing."""
+that record their arguments, so what would be executed is checked without installing.
+
+Source: POSIX ``command -v`` (The Open Group Base Specifications, Shell Command Language),
+which prints nothing and fails when a program is missing; minimal Debian images run as root
+without sudo (common practice)."""
 
 import pathlib
 import re

@@ -120,7 +120,7 @@ def probability_of_detection(
         np.asarray(speed, float),
     )
     jit = beam_pitch(detector) if jitter is None else jitter
-    walks = make_walks(d, b, v, kind, length, trials, jit, seed)
+    walks = make_walks(d, b, v, kind, length, trials, jit)
     src = None
     if noise:
         src = comparator_sources(detector, env) if sources is None else sources

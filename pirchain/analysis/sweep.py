@@ -219,8 +219,7 @@ class TradeOff:
 @warnings_once()
 def trade_off(design, path: str, values, budget_per_year: float = 1.0, progress=None) -> TradeOff:
     """Sweep ``path`` and pick the value with the most range within the false-trigger budget."""
-    check_sweep_path(design, path)
-    table = sweep(design, path, values, progress=progress)
+    table = sweep(design, path, values, progress=progress)  # checks the path
     rng = table.column("tangential_range_m")
     ok = table.column("false_triggers_per_year") <= budget_per_year
     best = int(np.flatnonzero(ok)[np.argmax(rng[ok])]) if ok.any() else None

@@ -137,7 +137,6 @@ def make_walks(
     length: float = 3.0,
     trials: int = 1,
     jitter: float = 0.0,
-    seed: int = 0,
 ) -> WalkSet:
     """Tangential or radial walks at given distances, bearings and speeds.
 
@@ -145,7 +144,7 @@ def make_walks(
     is repeated ``trials`` times at positions spread evenly relative to the beams: a
     tangential walk is shifted along itself, a radial walk sideways, trial k of n by
     ((k + ½)/n − ½)·``jitter``·d, where ``jitter`` is an angle [rad] (use
-    :func:`beam_pitch`). The positions do not depend on ``seed`` (kept for callers).
+    :func:`beam_pitch`). No randomness: the seed of an analysis drives its noise only.
     """
     if kind not in ("tangential", "radial"):
         raise DesignError("walk.kind", kind, "'tangential' or 'radial'")

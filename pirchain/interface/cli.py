@@ -144,8 +144,8 @@ def _outputs(args, *options) -> None:
         path = getattr(args, opt.lstrip("-").replace("-", "_"))
         if path is None:
             continue
-        check_output(path, getattr(args, "force", False), opt)
-        key = os.path.realpath(path) if path.strip() else path
+        check_output(path, getattr(args, "force", False), opt)  # refuses an empty name
+        key = os.path.realpath(path)
         if key in seen:
             raise DesignError(opt, path, f"a file other than the one given to {seen[key]}")
         seen[key] = opt

@@ -11,7 +11,9 @@ from __future__ import annotations
 
 import dataclasses
 import difflib
+import itertools
 import os
+import re
 import stat
 import tomllib
 
@@ -307,32 +309,17 @@ MAX_FILE_BYTES = 1 << 20  # a design file is a few kB; 1 MiB is far more than an
 MAX_NESTING = 12  # the deepest table of the schema is 4 levels down
 
 
+# strings (multi-line first) and comments, whose brackets do not nest anything
+_NOT_STRUCTURE = re.compile(
+    r'"""[\s\S]*?"""|\'\'\'[\s\S]*?\'\'\'|"(?:[^"\\\n]|\\.)*"|\'[^\'\n]*\'|#[^\n]*'
+)
+
+
 def _depth(text: str) -> int:
-    """Deepest bracket nesting of the text outside strings and comments (a cheap upper
-    bound on the TOML nesting, computed before parsing)."""
-    deep = level = 0
-    quote = None
-    i, n = 0, len(text)
-    while i < n:
-        ch = text[i]
-        if quote:
-            if ch == "\\" and quote == '"':
-                i += 1
-            elif ch == quote:
-                quote = None
-        elif ch in "\"'":
-            quote = ch
-        elif ch == "#":
-            j = text.find("\n", i)
-            i = n if j < 0 else j
-            continue
-        elif ch in "[{":
-            level += 1
-            deep = max(deep, level)
-        elif ch in "]}":
-            level = max(level - 1, 0)
-        i += 1
-    return deep
+    """Deepest bracket nesting of the text outside strings and comments (an upper bound on
+    the TOML nesting, found before parsing)."""
+    brackets = (1 if c in "[{" else -1 for c in _NOT_STRUCTURE.sub("", text) if c in "[]{}")
+    return max(itertools.accumulate(brackets), default=0)
 
 
 def loads(text: str) -> Design:
