@@ -3,13 +3,16 @@
 Every analysis of :mod:`pirchain.analysis` that needs more than a detector takes a
 :class:`Design`; a sweep replaces one of its values by dotted path
 (``detector.comparator.window.r_middle``, ``environment.air_c``, ``speed``, ``target``,
-``analysis.trials`` …). The design file (:mod:`pirchain.interface.design_file`) reads into
+``analysis.trials`` …). The analyses run :attr:`Design.operating`, the detector with its
+parts at their temperature, so a sweep of the room temperature moves the target's contrast
+and the parts together. The design file (:mod:`pirchain.interface.design_file`) reads into
 one. May import the base, the domain packages and :mod:`pirchain.chain`.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from functools import cached_property
 
 from .chain.detector import Detector
 from .errors import check_nonnegative, check_range
@@ -41,6 +44,10 @@ class Design:
     lux : float or None
         Illuminance for the daylight inhibit during walks [lux] (None: no inhibit).
     analysis : AnalysisSettings
+    detector_c : float or None
+        Temperature of the detector's parts [°C] (None: the room's air temperature). A
+        detector under a sunlit ceiling or just brought in from a cold van is not at the
+        room's temperature.
     """
 
     detector: Detector
@@ -50,6 +57,7 @@ class Design:
     draught: Draught | None = None
     lux: float | None = 5.0
     analysis: AnalysisSettings = field(default_factory=AnalysisSettings)
+    detector_c: float | None = None
 
     def __post_init__(self):
         if isinstance(self.target, str):
@@ -57,3 +65,16 @@ class Design:
         check_range("scene.speed", self.speed, *WALK_SPEED_RANGE, "m/s (a person's speed)")
         if self.lux is not None:
             check_nonnegative("scene.lux", self.lux, "lux")
+        if self.detector_c is not None:
+            check_range("scene.detector_c", self.detector_c, -55.0, 125.0, "°C")
+        self.operating  # noqa: B018 - a temperature the parts cannot take is refused here
+
+    @property
+    def parts_k(self) -> float:
+        """Temperature of the detector's parts [K]."""
+        return self.environment.air_k if self.detector_c is None else self.detector_c + 273.15
+
+    @cached_property
+    def operating(self) -> Detector:
+        """The detector with its parts at :attr:`parts_k` (what every analysis runs)."""
+        return self.detector.at_temperature(self.parts_k)

@@ -121,10 +121,11 @@ def gate_voltage(sensor, p_eq, fs):
 
 
 def source_voltage(follower, v_gate):
-    """Exact square law v_s = R_S I_DSS (1 + (v_g − v_s)/|V_P|)², vectorised (stable root)."""
+    """Exact square law v_s = R_S I_DSS (1 + (v_g − v_s)/|V_P|)², vectorised (stable root);
+    ``v_gate`` is the change on the gate's DC bias."""
     a = follower.jfet.pinch_off
     k = follower.source_resistance * follower.jfet.idss / a**2
-    d = np.maximum(np.asarray(v_gate, dtype=float) + a, 0.0)
+    d = np.maximum(np.asarray(v_gate, dtype=float) + follower.gate_bias + a, 0.0)
     return d - 2.0 * d / (1.0 + np.sqrt(1.0 + 4.0 * k * d))
 
 

@@ -56,8 +56,8 @@ def test_sensor_noise_matches_common_practice_and_nep():
     # NEP = noise / responsivity; D* = √A / NEP
     f = np.array([1.0])
     gate = math.sqrt(total_psd(sensor_sources(det, T), f)[0])
-    assert nep(det, f)[0] == pytest.approx(gate / abs(det.sensor.responsivity(1.0)), rel=1e-12)
-    assert specific_detectivity(det, f)[0] == pytest.approx(math.sqrt(2e-6) / nep(det, f)[0])
+    assert nep(det, f, T)[0] == pytest.approx(gate / abs(det.sensor.responsivity(1.0)), rel=1e-12)
+    assert specific_detectivity(det, f, T)[0] == pytest.approx(math.sqrt(2e-6) / nep(det, f, T)[0])
 
 
 def test_budget_shares_and_stage_resistor():

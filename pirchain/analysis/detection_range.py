@@ -262,7 +262,7 @@ def range_table(design, kinds=("tangential", "radial"), bearings=None, progress=
         for b in bearings:
             out.append(
                 detection_range(
-                    design.detector, design.target, design.environment, float(b),
+                    design.operating, design.target, design.environment, float(b),
                     design.speed, kind, design.analysis,
                 )
             )  # fmt: skip

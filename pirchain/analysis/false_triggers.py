@@ -37,12 +37,16 @@ HOUR, DAY, YEAR = 3600.0, 86400.0, 365.25 * 86400.0
 
 def comparator_sources(detector, env, draught: Draught | None = None) -> list[NoiseSource]:
     """Noise sources plus the draught (as one shaped source) at the comparator input."""
-    src = noise_sources(detector, env.air_k)
+    src = noise_sources(detector)
     if draught is not None and draught.rms > 0:
         diff, common = draught_parts(detector, env, draught)
         level = 4 * draught.rms**2 * draught.correlation_time * (diff + common)
         if level > 0:
-            src.append(NoiseSource("HVAC draught", level, draught_transfer(detector, draught)))
+            src.append(
+                NoiseSource(
+                    "HVAC draught", level, draught_transfer(detector, draught), electrical=False
+                )
+            )
     return src
 
 

@@ -103,7 +103,7 @@ def set_path(obj, path: str, value):
 
 def evaluate(design) -> dict:
     """Tangential and radial range, false triggers, settling time and supply current."""
-    det, env, tgt, a = design.detector, design.environment, design.target, design.analysis
+    det, env, tgt, a = design.operating, design.environment, design.target, design.analysis
     b = a.sweep_bearing
     tang = detection_range(det, tgt, env, b, design.speed, "tangential", a)
     rad = detection_range(det, tgt, env, b, design.speed, "radial", a)

@@ -9,7 +9,7 @@ compiles for a sample rate and walk length with :meth:`Detector.compile`.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field, replace
 
 import control
 import numpy as np
@@ -18,10 +18,10 @@ from ..circuit.comparator import WindowComparator
 from ..circuit.follower import SourceFollower
 from ..circuit.stage import chain_transfer_function
 from ..circuit.supply import PowerSupply, SupplyBudget, supply_budget
-from ..errors import DesignError, warn_validity
+from ..errors import DesignError, check_range, warn_validity
 from ..logic.rules import PulseLogic
 from ..physics.optics import Beams, Lens, Mount, crossing_frequency, make_beams
-from ..physics.sensor import PyroSensor
+from ..physics.sensor import REFERENCE_K, PyroSensor
 from .engine import TAPS, ChainRun, CompiledChain, WalkOutcomes, compile_chain
 
 
@@ -42,6 +42,16 @@ class Detector:
         None: the defaults of :class:`PulseLogic`.
     supply : PowerSupply or None
     name : str
+    temperature : float
+        Temperature of the parts [K]. The part values are those at 25 °C; use
+        :meth:`at_temperature` for the unit at another temperature (a
+        :class:`pirchain.design.Design` does, at its room's or its stated temperature).
+    nominal : Detector or None
+        The 25 °C design this one was moved from (None: this one is).
+
+    Notes
+    -----
+    The follower's gate bias is set here: the JFET's gate leakage through R_G.
     """
 
     lens: Lens
@@ -53,9 +63,15 @@ class Detector:
     logic: PulseLogic | None = None
     supply: PowerSupply | None = None
     name: str = "detector"
+    temperature: float = REFERENCE_K
+    nominal: Detector | None = field(default=None, compare=False, repr=False)
 
     def __post_init__(self):
         object.__setattr__(self, "stages", tuple(self.stages))
+        if self.follower is not None:
+            bias = self.follower.jfet.gate_leakage * self.sensor.gate_resistance
+            if bias != self.follower.gate_bias:
+                object.__setattr__(self, "follower", replace(self.follower, gate_bias=bias))
         if self.supply is not None and self.follower is not None:
             need = self.follower.minimum_drain_voltage()
             if self.supply.voltage < need:
@@ -64,6 +80,25 @@ class Detector:
                     self.supply.voltage,
                     f"at least {need:.3g} V to keep the JFET saturated",
                 )
+
+    def at_temperature(self, temperature: float) -> Detector:
+        """The same design with every part at ``temperature`` [K] (from the 25 °C values).
+
+        Moves the sensor (p, ε_r, R_G), the JFET (leakage, I_DSS, |V_P|), every stage
+        (resistor and capacitor coefficients, op-amp offset drift, C1 leakage); thermal
+        noise is then taken at this temperature.
+        """
+        check_range("detector temperature", temperature - 273.15, -55.0, 125.0, "°C")
+        base = self.nominal or self
+        delta = temperature - REFERENCE_K
+        return replace(
+            base,
+            sensor=base.sensor.at_temperature(temperature),
+            follower=None if base.follower is None else base.follower.at_temperature(delta),
+            stages=tuple(st.at_temperature(delta) for st in base.stages),
+            temperature=float(temperature),
+            nominal=base,
+        )
 
     # -- static answers -------------------------------------------------------------------
     def beams(self) -> Beams:

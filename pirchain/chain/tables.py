@@ -75,6 +75,7 @@ class FollowerTable(NamedTuple):
 
     pinch_off: float  # |V_P| [V]
     k4: float  # 4 R_S I_DSS / V_P² [V⁻¹]
+    gate_bias: float  # DC gate voltage from the gate leakage [V]
 
 
 class StageTable(NamedTuple):
@@ -254,7 +255,9 @@ def sensor_table(sensor, sample_rate: float) -> SensorTable:
 
 def follower_table(follower) -> FollowerTable:
     """The follower's square law."""
-    return FollowerTable(float(follower.jfet.pinch_off), float(follower.k4))
+    return FollowerTable(
+        float(follower.jfet.pinch_off), float(follower.k4), float(follower.gate_bias)
+    )
 
 
 def stage_table(stages, sample_rate: float) -> StageTable:

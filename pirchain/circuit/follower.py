@@ -1,17 +1,43 @@
-"""The JFET source follower behind the sensor's gate.
+"""The JFET source follower behind the sensor's gate: operating point, noise, temperature.
+
+The JFET's noise follows from its operating point unless a datasheet figure overrides it:
+channel thermal noise i_d² = 4kT (2/3) g_m, referred to the gate e_n² = 8kT/(3 g_m), with
+g_m = 2√(I_D I_DSS)/|V_P| at the actual drain current; flicker noise of the drain current
+KF I_D^AF / f (the SPICE JFET form), referred to the gate as KF I_D^AF/(g_m² f); and the
+shot noise 2qI_G of the gate leakage. The leakage also flows through the gate resistor and
+lifts the gate by I_G R_G (:attr:`SourceFollower.gate_bias`, set by the detector).
+
+With temperature (25 °C reference): the gate leakage doubles every 10 K (a reverse-biased
+silicon junction, common practice); I_DSS falls as the channel mobility, ∝ T^−1.5, and
+|V_P| rises about 2.2 mV/K as the built-in potential falls (common practice, from memory;
+the two make the JFET's zero-temperature-coefficient bias point).
 
 References
 ----------
 .. [1] Sedra, A. S. and Smith, K. C., *Microelectronic Circuits*: Shockley square law
    I_D = I_DSS (1 − V_GS/V_P)², source follower gain g_m R_S / (1 + g_m R_S).
+.. [2] van der Ziel, A., "Thermal noise in field-effect transistors", Proc. IRE 50, 1808
+   (1962); *Noise in Solid State Devices and Circuits* (1986): i_d² = 4kT (2/3) g_m.
+.. [3] Motchenbacher, C. D. and Connelly, J. A., *Low-Noise Electronic System Design*
+   (1993), ch. 7: JFET noise model, gate shot noise 2qI_G.
 """
 
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
+
+import control
+from scipy import constants
 
 from ..errors import check_nonnegative, check_positive, check_range, check_real
+from .noise import NoiseSource
+
+K_B, Q_E = constants.k, constants.e
+LEAKAGE_DOUBLING = 10.0  # K per doubling of a junction's reverse leakage (common practice)
+IDSS_EXPONENT = -1.5  # I_DSS ∝ T^−1.5 (channel mobility; common practice, from memory)
+PINCH_OFF_TEMPCO = 2.2e-3  # d|V_P|/dT [V/K] (common practice, from memory)
+REFERENCE_K = 298.15  # the temperature part values are given at [K] (25 °C)
 
 
 def source_voltage_at(gate_voltage: float, pinch_off: float, k4: float) -> float:
@@ -45,10 +71,16 @@ class Jfet:
         Drain saturation current at V_GS = 0 [A].
     pinch_off : float
         Magnitude of the pinch-off voltage |V_P| [V].
-    e_n : float
-        Input voltage noise density (white) [V/√Hz].
-    i_n : float
-        Gate current noise density [A/√Hz].
+    e_n : float or None
+        Datasheet input voltage noise density (white) [V/√Hz]; None: from the operating
+        point, √(8kT/(3 g_m)).
+    i_n : float or None
+        Datasheet gate current noise density [A/√Hz]; None: the gate leakage's shot
+        noise √(2qI_G).
+    gate_leakage : float
+        Gate leakage current I_G at 25 °C [A] (out of the gate into the gate resistor).
+    kf, af : float
+        Flicker noise of the drain current, KF I_D^AF / f [A² Hz⁻¹] (SPICE's JFET form).
 
     Notes
     -----
@@ -58,16 +90,34 @@ class Jfet:
 
     idss: float = 0.5e-3
     pinch_off: float = 1.5
-    e_n: float = 20e-9
-    i_n: float = 1e-16
+    e_n: float | None = None
+    i_n: float | None = None
+    gate_leakage: float = 0.5e-12
+    kf: float = 0.0
+    af: float = 1.0
 
     def __post_init__(self):
         # small-signal JFETs: I_DSS of µA to tens of mA, |V_P| of tenths of a volt to a few
         # volts (common practice); generous bounds keep the square law finite
         check_range("follower.jfet.idss", self.idss, 1e-7, 1.0, "A")
         check_range("follower.jfet.pinch_off", self.pinch_off, 0.01, 50.0, "V (magnitude)")
-        check_nonnegative("follower.jfet.e_n", self.e_n, "V/√Hz")
-        check_nonnegative("follower.jfet.i_n", self.i_n, "A/√Hz")
+        if self.e_n is not None:
+            check_nonnegative("follower.jfet.e_n", self.e_n, "V/√Hz")
+        if self.i_n is not None:
+            check_nonnegative("follower.jfet.i_n", self.i_n, "A/√Hz")
+        check_range("follower.jfet.gate_leakage", self.gate_leakage, 0.0, 1e-6, "A")
+        check_range("follower.jfet.kf", self.kf, 0.0, 1e-6, "A (SPICE KF)")
+        check_range("follower.jfet.af", self.af, 0.5, 2.5)
+
+    def at_temperature(self, delta: float) -> Jfet:
+        """This JFET ``delta`` kelvin above 25 °C (leakage, I_DSS and |V_P| moved)."""
+        t = REFERENCE_K + delta
+        return replace(
+            self,
+            idss=self.idss * (t / REFERENCE_K) ** IDSS_EXPONENT,
+            pinch_off=self.pinch_off + PINCH_OFF_TEMPCO * delta,
+            gate_leakage=self.gate_leakage * 2.0 ** (delta / LEAKAGE_DOUBLING),
+        )
 
 
 @dataclass(frozen=True)
@@ -79,13 +129,18 @@ class SourceFollower:
     jfet : Jfet
     source_resistance : float
         R_S from source to ground [Ω].
+    gate_bias : float
+        DC gate voltage [V]: the gate leakage through the gate resistor, I_G R_G. The
+        :class:`pirchain.chain.detector.Detector` sets it from its sensor and JFET.
     """
 
     jfet: Jfet = Jfet()
     source_resistance: float = 47e3
+    gate_bias: float = 0.0
 
     def __post_init__(self):
         check_positive("follower.source_resistance", self.source_resistance, "Ω")
+        check_range("follower.gate_bias", self.gate_bias, -50.0, 50.0, "V")
 
     @property
     def k4(self) -> float:
@@ -100,8 +155,8 @@ class SourceFollower:
 
     @property
     def offset(self) -> float:
-        """DC source voltage with the gate at 0 V [V]."""
-        return self.source_voltage(0.0)
+        """DC source voltage with the gate at its bias [V]."""
+        return self.source_voltage(self.gate_bias)
 
     @property
     def drain_current(self) -> float:
@@ -110,9 +165,10 @@ class SourceFollower:
 
     @property
     def transconductance(self) -> float:
-        """g_m = 2 I_DSS/|V_P| (1 − V_S/|V_P|) at the operating point [S]."""
+        """g_m = 2 I_DSS/|V_P| (1 + V_GS/|V_P|) = 2√(I_D I_DSS)/|V_P| at the operating
+        point [S] (0 when cut off)."""
         a = self.jfet.pinch_off
-        return 2.0 * self.jfet.idss / a * (1.0 - self.offset / a)
+        return max(2.0 * self.jfet.idss / a * (1.0 + (self.gate_bias - self.offset) / a), 0.0)
 
     @property
     def gain(self) -> float:
@@ -131,3 +187,50 @@ class SourceFollower:
         V_D ≥ V_S + (V_GS − V_P) with V_GS = −V_S, i.e. |V_P|.
         """
         return self.jfet.pinch_off
+
+    def at_temperature(self, delta: float) -> SourceFollower:
+        """This follower ``delta`` kelvin above 25 °C (its JFET moved; R_S by the design's
+        resistor tempco is not known here and stays)."""
+        return replace(self, jfet=self.jfet.at_temperature(delta))
+
+    def voltage_noise(self, temperature: float) -> tuple[float, float]:
+        """Gate-referred (white density², flicker density² at 1 Hz) [V² Hz⁻¹]."""
+        gm = self.transconductance
+        if gm <= 0:
+            return 0.0, 0.0
+        j = self.jfet
+        white = 8.0 * K_B * temperature / (3.0 * gm) if j.e_n is None else j.e_n**2
+        flicker = j.kf * self.drain_current**j.af / gm**2
+        return white, flicker
+
+    def current_noise(self) -> float:
+        """Gate current noise density² [A² Hz⁻¹]: 2qI_G, or the datasheet i_n²."""
+        j = self.jfet
+        return 2.0 * Q_E * j.gate_leakage if j.i_n is None else j.i_n**2
+
+    def noise_sources(self, temperature, z_gate, after_gate, after_source, source_resistor=True):
+        """The follower's sources referred to where ``after_gate`` (from the gate) and
+        ``after_source`` (from the source) lead; ``z_gate`` is the gate node's impedance.
+
+        Returns
+        -------
+        list of pirchain.circuit.noise.NoiseSource
+        """
+        white, flicker = self.voltage_noise(temperature)
+        i2 = self.current_noise()
+        out = []
+        if i2 > 0:
+            out.append(NoiseSource("JFET gate current (i_n)", i2, z_gate * after_gate))
+        if white > 0:
+            out.append(NoiseSource("JFET channel (e_n)", white, after_gate))
+        if flicker > 0:
+            out.append(NoiseSource("JFET flicker (1/f)", flicker, after_gate, slope=-1))
+        if source_resistor:
+            out.append(
+                NoiseSource(
+                    "source resistor R_S (Johnson)",
+                    4 * K_B * temperature / self.source_resistance,
+                    control.tf([self.output_impedance], [1.0]) * after_source,
+                )
+            )
+        return out

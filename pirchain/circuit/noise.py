@@ -6,10 +6,12 @@ transfer function from where it enters to the comparator input, built with pytho
 
 Sources: Johnson noise of the gate resistor (a current 4kT/R_G into R_G ∥ C_gate);
 dielectric-loss noise of the elements (a current 4kT ω C tan δ, so ≈ 4kT tan δ/(ωC) in
-voltage where ωC dominates); JFET gate current noise i_n (into the gate node) and voltage
-noise e_n (at the gate); the source resistor (a current 4kT/R_S into R_S ∥ 1/g_m);
-temperature-fluctuation noise of each element (power 4kT²G); and each stage's own sources,
-which the stage class states (:meth:`pirchain.circuit.stage.Stage.noise_sources`).
+voltage where ωC dominates); the JFET's gate current noise, channel noise and flicker
+noise from its operating point, and the source resistor (the follower states them,
+:meth:`pirchain.circuit.follower.SourceFollower.noise_sources`); temperature-fluctuation
+noise of each element (power 4kT²G); and each stage's own sources, white and flicker,
+which the stage class states (:meth:`pirchain.circuit.stage.Stage.noise_sources`). Every
+thermal source is at the temperature of the parts.
 
 References
 ----------
@@ -45,98 +47,66 @@ class NoiseSource:
         White spectral density S0 of the source where it enters [A² Hz⁻¹, V² Hz⁻¹ or W² Hz⁻¹].
     transfer : control.TransferFunction
         From the source to the comparator input.
-    rising : bool
-        The source density is S0 · f (dielectric loss), not S0.
+    slope : {-1, 0, 1}
+        The source density is S0 · (f / 1 Hz)^slope: 0 white, +1 rising as f (dielectric
+        loss), −1 flicker (1/f, ``level`` is then its density at 1 Hz).
+    electrical : bool
+        An electrical source the exported SPICE netlist carries too (not the dielectric
+        loss, the elements' temperature fluctuation or a draught).
     """
 
     name: str
     level: float
     transfer: control.TransferFunction
-    rising: bool = False
+    slope: int = 0
+    electrical: bool = True
+
+    def __post_init__(self):
+        if self.slope not in (-1, 0, 1):
+            raise ValueError(f"noise source slope {self.slope!r}: expected -1, 0 or 1")
+
+    @property
+    def rising(self) -> bool:
+        """The density rises as f (dielectric loss)."""
+        return self.slope == 1
 
     def psd(self, f) -> np.ndarray:
         """PSD at the comparator input [V² Hz⁻¹]."""
         f = np.asarray(f, dtype=float)
         h = np.abs(self.transfer(2j * math.pi * f)) ** 2
-        return self.level * h * (f if self.rising else 1.0)
+        return self.level * h * (f**self.slope if self.slope else 1.0)
 
 
-def _tf(x) -> control.TransferFunction:
-    return x if isinstance(x, control.TransferFunction) else control.tf([float(x)], [1.0])
-
-
-def noise_sources(detector, temperature: float = 295.15) -> list[NoiseSource]:
-    """Every noise source of ``detector`` referred to its comparator input.
-
-    Parameters
-    ----------
-    detector : Detector
-        With sensor, follower and stages.
-    temperature : float
-        Temperature of the electronics [K].
-    """
-    detector.require_analog()
-    s, fol, stages = detector.sensor, detector.follower, detector.stages
-    kt4 = 4 * K_B * temperature
-    z_gate = control.tf([s.gate_resistance], [s.electrical_time_constant, 1.0])
-    after_source = chain_transfer_function(stages, gbw=True)
-    after_gate = fol.gain * after_source
-    c_el = s.gate_capacitance - s.input_capacitance
-    out = [
-        NoiseSource("gate resistor R_G (Johnson)", kt4 / s.gate_resistance, z_gate * after_gate),
-        NoiseSource(
-            "element dielectric loss (tan δ)",
-            kt4 * 2 * math.pi * c_el * s.loss_tangent,
-            z_gate * after_gate,
-            rising=True,
-        ),
-    ]
-    if fol.jfet.i_n > 0:
-        out.append(NoiseSource("JFET i_n", fol.jfet.i_n**2, z_gate * after_gate))
-    if fol.jfet.e_n > 0:
-        out.append(NoiseSource("JFET e_n", fol.jfet.e_n**2, after_gate))
-    out.append(
-        NoiseSource(
-            "source resistor R_S (Johnson)",
-            kt4 / fol.source_resistance,
-            fol.output_impedance * after_source,
-        )
-    )
-    if s.heat_capacity is not None:
-        g = s.heat_capacity / s.thermal_time_constant
-        out.append(
-            NoiseSource(
-                "temperature fluctuation",
-                4 * K_B * temperature**2 * g * float(np.sum(s.coupling**2)),
-                s.transfer_function() * after_gate,
-            )
-        )
-    for k, st in enumerate(stages, start=1):
-        downstream = chain_transfer_function(stages[k:], gbw=True)
-        out += st.noise_sources(k, temperature, downstream)
+def amplifier_sources(tag: str, amp, voltage_path, current_path=None) -> list[NoiseSource]:
+    """An op-amp's voltage noise through ``voltage_path`` and current noise through
+    ``current_path`` (None: not modelled), each white plus its flicker part
+    e_n² f_ce / f (:class:`pirchain.circuit.opamp.OpAmp`)."""
+    out = []
+    parts = [("e_n", amp.e_n, amp.e_n_corner, voltage_path)]
+    if current_path is not None:
+        parts.append(("i_n", amp.i_n, amp.i_n_corner, current_path))
+    for label, density, corner, path in parts:
+        if density > 0:
+            out.append(NoiseSource(f"{tag} op-amp {label}", density**2, path))
+            if corner > 0:
+                out.append(
+                    NoiseSource(f"{tag} op-amp {label} 1/f", density**2 * corner, path, slope=-1)
+                )
     return out
 
 
-def sensor_sources(detector, temperature: float = 295.15) -> list[NoiseSource]:
-    """The sensor's own sources (and the JFET) referred to the gate node [V² Hz⁻¹]."""
-    s, fol = detector.sensor, detector.follower
+def _gate_parts(detector, temperature):
+    s = detector.sensor
     kt4 = 4 * K_B * temperature
     z_gate = control.tf([s.gate_resistance], [s.electrical_time_constant, 1.0])
     c_el = s.gate_capacitance - s.input_capacitance
     out = [
         NoiseSource("gate resistor R_G (Johnson)", kt4 / s.gate_resistance, z_gate),
         NoiseSource(
-            "element dielectric loss (tan δ)",
-            kt4 * 2 * math.pi * c_el * s.loss_tangent,
-            z_gate,
-            rising=True,
+            "element dielectric loss (tan δ)", kt4 * 2 * math.pi * c_el * s.loss_tangent, z_gate,
+            slope=1, electrical=False,
         ),
-    ]
-    if fol is not None:
-        out += [
-            NoiseSource("JFET i_n", fol.jfet.i_n**2, z_gate),
-            NoiseSource("JFET e_n", fol.jfet.e_n**2, _tf(1.0)),
-        ]
+    ]  # fmt: skip
     if s.heat_capacity is not None:
         g = s.heat_capacity / s.thermal_time_constant
         out.append(
@@ -144,8 +114,48 @@ def sensor_sources(detector, temperature: float = 295.15) -> list[NoiseSource]:
                 "temperature fluctuation",
                 4 * K_B * temperature**2 * g * float(np.sum(s.coupling**2)),
                 s.transfer_function(),
+                electrical=False,
             )
         )
+    return out, z_gate
+
+
+def _then(src: NoiseSource, after) -> NoiseSource:
+    return NoiseSource(src.name, src.level, src.transfer * after, src.slope, src.electrical)
+
+
+def noise_sources(detector, temperature: float | None = None) -> list[NoiseSource]:
+    """Every noise source of ``detector`` referred to its comparator input.
+
+    Parameters
+    ----------
+    detector : Detector
+        With sensor, follower and stages.
+    temperature : float, optional
+        Temperature of the parts [K] (default: the detector's own,
+        :attr:`pirchain.chain.detector.Detector.temperature`).
+    """
+    detector.require_analog()
+    temperature = detector.temperature if temperature is None else temperature
+    fol, stages = detector.follower, detector.stages
+    after_source = chain_transfer_function(stages, gbw=True)
+    after_gate = fol.gain * after_source
+    gate, z_gate = _gate_parts(detector, temperature)
+    out = [_then(src, after_gate) for src in gate]
+    out[2:2] = fol.noise_sources(temperature, z_gate, after_gate, after_source)
+    for k, st in enumerate(stages, start=1):
+        downstream = chain_transfer_function(stages[k:], gbw=True)
+        out += st.noise_sources(k, temperature, downstream)
+    return out
+
+
+def sensor_sources(detector, temperature: float | None = None) -> list[NoiseSource]:
+    """The sensor's own sources (and the JFET's) referred to the gate node [V² Hz⁻¹]."""
+    temperature = detector.temperature if temperature is None else temperature
+    out, z_gate = _gate_parts(detector, temperature)
+    if detector.follower is not None:
+        one = control.tf([1.0], [1.0])
+        out[2:2] = detector.follower.noise_sources(temperature, z_gate, one, one, False)
     return out
 
 
@@ -210,12 +220,12 @@ def total_psd(sources, f) -> np.ndarray:
     return np.sum([src.psd(f) for src in sources], axis=0)
 
 
-def nep(detector, f, temperature: float = 295.15):
+def nep(detector, f, temperature: float | None = None):
     """Noise-equivalent power of the sensor (with its JFET) for one lit element [W Hz⁻¹ᐟ²]."""
     gate = total_psd(sensor_sources(detector, temperature), f)
     return np.sqrt(gate) / np.abs(detector.sensor.responsivity(f))
 
 
-def specific_detectivity(detector, f, temperature: float = 295.15):
+def specific_detectivity(detector, f, temperature: float | None = None):
     """D* = √A / NEP [m Hz¹ᐟ² W⁻¹] (× 100 for the customary cm Hz¹ᐟ² W⁻¹)."""
     return math.sqrt(detector.sensor.elements[0].area) / nep(detector, f, temperature)

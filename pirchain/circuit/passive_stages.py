@@ -8,7 +8,7 @@ from dataclasses import dataclass
 import control
 import numpy as np
 
-from ..errors import check_positive, check_real
+from ..errors import check_positive, check_range, check_real
 from .noise import K_B, NoiseSource
 from .rails import Section, StateModel
 from .stage import Stage
@@ -18,11 +18,15 @@ class _PassiveRC(Stage):
     """Shared checks, corner, section, noise and drawing of the passive RC stages."""
 
     opamp = None
+    resistors = ("r",)
+    capacitors = ("c",)
 
     def __post_init__(self):
         check_positive("stage.r", self.r, "Ω")
         check_positive("stage.c", self.c, "F")
         check_real("stage.v_ref", self.v_ref)
+        check_range("stage.r_tempco", self.r_tempco, -5e-3, 5e-3, "1/K")
+        check_range("stage.c_tempco", self.c_tempco, -5e-3, 5e-3, "1/K")
 
     @property
     def corner(self) -> float:
@@ -68,6 +72,8 @@ class RCHighPass(_PassiveRC):
     c: float
     v_ref: float = 0.0
     name: str = "RC high-pass"
+    r_tempco: float = 0.0
+    c_tempco: float = 0.0
 
     def transfer_function(self, gbw: bool = False) -> control.TransferFunction:
         """s R C / (1 + s R C)."""
@@ -104,6 +110,8 @@ class RCLowPass(_PassiveRC):
     c: float
     v_ref: float = 0.0
     name: str = "RC low-pass"
+    r_tempco: float = 0.0
+    c_tempco: float = 0.0
 
     def transfer_function(self, gbw: bool = False) -> control.TransferFunction:
         """1 / (1 + s R C)."""

@@ -19,6 +19,7 @@ one new class and registering it in :data:`pirchain.circuit.stages.STAGE_TYPES`.
 from __future__ import annotations
 
 from abc import ABC, abstractmethod
+from dataclasses import replace
 
 import control
 import numpy as np
@@ -60,6 +61,32 @@ class Stage(ABC):
         """DC output for a constant input [V]: v_ref + H(0) (u − v_ref)."""
         h0 = float(np.real(self.transfer_function()(0.0)))
         return self.v_ref + h0 * (u_dc - self.v_ref)
+
+    #: Field names of the stage's resistors and capacitors (moved by ``r_tempco`` and
+    #: ``c_tempco`` [1/K] when the stage has them).
+    resistors: tuple = ()
+    capacitors: tuple = ()
+
+    def at_temperature(self, delta: float):
+        """The stage ``delta`` kelvin above 25 °C: resistors and capacitors moved by their
+        temperature coefficients, the op-amp's offset by its drift, and whatever else the
+        stage type moves (:meth:`_moved`)."""
+        changes = self._moved(delta)
+        for names, coeff in ((self.resistors, "r_tempco"), (self.capacitors, "c_tempco")):
+            k = 1.0 + getattr(self, coeff, 0.0) * delta
+            if k != 1.0:
+                changes.update({n: getattr(self, n) * k for n in names})
+        if self.opamp is not None:
+            changes["opamp"] = self.opamp.at_temperature(delta)
+        return replace(self, **changes) if changes else self
+
+    def _moved(self, delta: float) -> dict:
+        """Stage-specific fields at ``delta`` kelvin above 25 °C (default: none)."""
+        return {}
+
+    def leakage_current(self, u_dc: float) -> float:
+        """Supply current lost in the stage's capacitor leakage for a DC input [A]."""
+        return 0.0
 
     @property
     def quiescent_current(self) -> float:

@@ -99,9 +99,14 @@ class SupplyBudget:
 def supply_budget(supply: PowerSupply, follower, stages, comparator, logic) -> SupplyBudget:
     """Per-part supply current of a detector; warns when the total exceeds the limit."""
     items = [("JFET follower drain current", follower.drain_current)]
+    level = follower.offset
     for i, st in enumerate(stages):
         if st.opamp is not None:
             items.append((f"op-amp of stage {i + 1} ({st.name})", st.opamp.quiescent_current))
+        leak = st.leakage_current(level)
+        if leak > 0:
+            items.append((f"C1 leakage of stage {i + 1}", leak))
+        level = st.output_dc(level)
     if supply.reference_top is not None:
         items.append(
             ("reference divider", supply.voltage / (supply.reference_top + supply.reference_bottom))

@@ -9,7 +9,10 @@ are carried from chunk to chunk, so a long run is one continuous realisation. Wi
 ``stationary=True`` the filter states start as a draw from their stationary distribution
 (covariance P = A P Aᵀ + B Bᵀ, the discrete Lyapunov equation of the cascade's state
 equations, summed by squaring), so the very first sample is already stationary and no
-warm-up is needed.
+warm-up is needed. Flicker (1/f) sources pass the mirror image of that filter: poles and
+zeros alternate the other way round, so the amplitude follows 1/√(f/f_ref) (the density
+1/f) between f_lo and f_hi and is flat outside; below f_lo = 1 mHz the synthesised density
+stops rising (well below every high-pass corner of a detector chain).
 
 References
 ----------
@@ -44,13 +47,19 @@ def half_order_sos(
     f_hi: float | None = None,
     per_decade: int = 3,
     f_ref: float = 1.0,
+    sign: int = 1,
 ) -> np.ndarray:
-    """Sections with |H(f)| ≈ √(f/f_ref) for f_lo ≤ f ≤ f_hi (flat outside)."""
+    """Sections with |H(f)| ≈ (f/f_ref)^(sign/2) for f_lo ≤ f ≤ f_hi (flat outside).
+
+    ``sign`` = +1 shapes white noise into a density rising as f (dielectric loss), −1 into
+    a flicker (1/f) density.
+    """
     f_hi = 0.45 * sample_rate if f_hi is None else f_hi
     n = int(math.ceil(math.log10(f_hi / f_lo) * per_decade))
     step = 10.0 ** (1.0 / per_decade)
-    fz = f_lo * step ** np.arange(n)
-    fp = fz * math.sqrt(step)
+    first = f_lo * step ** np.arange(n)
+    second = first * math.sqrt(step)
+    fz, fp = (first, second) if sign > 0 else (second, first)
     z, p = -2 * math.pi * fz, -2 * math.pi * fp
     # each section (s − z)/(s − p) normalised to unity at high frequency; then scale at f_ref
     zd, pd, kd = signal.bilinear_zpk(z, p, 1.0, sample_rate)
@@ -132,7 +141,8 @@ class NoiseSynthesizer:
     Parameters
     ----------
     sources : sequence
-        Objects with ``level``, ``transfer`` and ``rising`` (:class:`pirchain.noise.NoiseSource`).
+        Objects with ``level``, ``transfer`` and ``slope``
+        (:class:`pirchain.circuit.noise.NoiseSource`).
     sample_rate : float
         [Hz].
     streams : int
@@ -155,8 +165,8 @@ class NoiseSynthesizer:
         self.warm_up_needed = not stationary
         for src in sources:
             sos = tf_sos(src.transfer, self.fs)
-            if src.rising:  # after the transfer sections: better-conditioned states
-                sos = np.vstack([sos, half_order_sos(self.fs)])
+            if src.slope:  # after the transfer sections: better-conditioned states
+                sos = np.vstack([sos, half_order_sos(self.fs, sign=src.slope)])
             scale = math.sqrt(src.level * self.fs / 2.0)
             zi = stationary_states(sos, scale, self.streams, self.rng) if stationary else None
             self.warm_up_needed |= zi is None

@@ -10,7 +10,7 @@ import numpy as np
 from scipy import signal
 
 from ..errors import DesignError
-from .noise import NoiseSource
+from .noise import amplifier_sources
 from .opamp import OpAmp
 from .rails import Section, StateModel
 from .stage import Stage
@@ -112,17 +112,14 @@ class TransferStage(Stage):
         """State of the whole canonical form with a constant input."""
         return self._steady(self.state_model(), u_dc)
 
-    def noise_sources(self, index, temperature, downstream) -> list[NoiseSource]:
-        """The op-amp's e_n through the stage's own H (its network is unknown)."""
-        if self.opamp is None or self.opamp.e_n <= 0:
+    def noise_sources(self, index, temperature, downstream) -> list:
+        """The op-amp's e_n (white and flicker) through the stage's own H (its network is
+        unknown)."""
+        if self.opamp is None:
             return []
-        return [
-            NoiseSource(
-                f"stage {index} op-amp e_n (through H)",
-                self.opamp.e_n**2,
-                self.transfer_function(True) * downstream,
-            )
-        ]
+        return amplifier_sources(
+            f"stage {index} (through H)", self.opamp, self.transfer_function(True) * downstream
+        )
 
     def netlist_lines(self, index, inp, out, writer) -> list[str]:
         """The canonical state equations on 1 F behavioural integrators, output clamped."""

@@ -175,7 +175,7 @@ def _list(text, field, unit=None):
 
 def cmd_check(args):
     d = _design(args)
-    det = d.detector
+    det = d.operating
     lo, hi = det.window()
     data = {
         "name": det.name,
@@ -211,7 +211,7 @@ def cmd_walk(args):
 
     _outputs(args, "--csv", "--plot")
     d = _design(args)
-    det = d.detector
+    det = d.operating
     dist = (
         d.analysis.walk_distance
         if args.distance is None
@@ -305,8 +305,8 @@ def cmd_range(args):
         from ..analysis.coverage import top_view
         from . import plots
 
-        m = top_view(d.detector, d.target, d.environment, "tangential", a)
-        write_new(args.map, plots.png_bytes(plots.top_view(m, d.detector)), args.force)
+        m = top_view(d.operating, d.target, d.environment, "tangential", a)
+        write_new(args.map, plots.png_bytes(plots.top_view(m, d.operating)), args.force)
         if d.detector.mount.kind == "ceiling":
             data["map_coverage_diameter_m"] = m.diameter(a.level)
             lines.append(f"coverage diameter on the map, tangential: {m.diameter(a.level):.2f} m")
@@ -381,7 +381,7 @@ def cmd_false_triggers(args):
     from ..circuit.noise import noise_budget
 
     d = _design(args)
-    det, env = d.detector, d.environment
+    det, env = d.operating, d.environment
     src = comparator_sources(det, env, d.draught)
     b = noise_budget(src, (1e-3, 1e3))
     est = analytic_rate(det, env, d.draught, sources=src)
@@ -446,9 +446,9 @@ def cmd_netlist(args):
         w = walks_from_paths(
             [tangential_path(dist, 0.0, d.speed, length=6.0)], 6.0 / d.speed + 4.0, fs
         )
-        run = d.detector.run(d.target, d.environment, w, ("equivalent_power",))
-        cur = gate_current(d.detector.sensor, run.equivalent_power, fs)[0]
-    text = netlist(d.detector, cur, fs, None if cur is not None else 60.0, power_up=cur is None)
+        run = d.operating.run(d.target, d.environment, w, ("equivalent_power",))
+        cur = gate_current(d.operating.sensor, run.equivalent_power, fs)[0]
+    text = netlist(d.operating, cur, fs, None if cur is not None else 60.0, power_up=cur is None)
     write_new(args.output, text, args.force)
     _emit(args, {"written": args.output}, f"wrote {args.output}")
 

@@ -103,7 +103,7 @@ def sample_walk_distance(det, walk_distance: float) -> float:
 
 def compute(design, progress=None) -> dict:
     """Run every analysis of the report; returns figures (PNG/SVG bytes) and numbers."""
-    det, env, a = design.detector, design.environment, design.analysis
+    det, env, a = design.operating, design.environment, design.analysis
     tgt = design.target
     out: dict = {"figures": {}, "numbers": {}}
     steps = 8
@@ -118,7 +118,7 @@ def compute(design, progress=None) -> dict:
     fig["bode"] = plots.png_bytes(plots.bode(det))
     sources = comparator_sources(det, env, design.draught)
     budget = noise_budget(sources, (1e-3, 1e3))
-    sensor_b = noise_budget(sensor_sources(det, env.air_k), (0.4, 10.0))
+    sensor_b = noise_budget(sensor_sources(det), (0.4, 10.0))
     fig["noise"] = plots.png_bytes(plots.noise_psd(sources))
     num["noise_table"] = budget.table()
     num["noise_total_v"] = budget.total_rms
@@ -181,7 +181,7 @@ def compute(design, progress=None) -> dict:
 
 def render(design, data: dict) -> str:
     """The HTML text of the report."""
-    det, env, a = design.detector, design.environment, design.analysis
+    det, env, a = design.operating, design.environment, design.analysis
     fig, num = data["figures"], data["numbers"]
     name = _esc(det.name)  # in <title>; in the page it is also isolated with <bdi>
     s = det.sensor

@@ -59,8 +59,9 @@ def gate_walk(sig, sensor):
 def source_walk(sig, follower):
     """Gate voltage change (samples,) [V] → absolute source voltage [V], in place.
 
-    ``follower`` is a :class:`pirchain.chain.tables.FollowerTable`.
+    ``follower`` is a :class:`pirchain.chain.tables.FollowerTable`; the change rides on the
+    gate's DC bias.
     """
-    a, k4 = follower.pinch_off, follower.k4
+    a, k4, bias = follower.pinch_off, follower.k4, follower.gate_bias
     for t in range(sig.shape[0]):
-        sig[t] = source_voltage_at(sig[t], a, k4)
+        sig[t] = source_voltage_at(sig[t] + bias, a, k4)

@@ -17,11 +17,22 @@ mismatch m = (R_+ − R_−)/R_mean scales the + elements by 1 + m/2 and the −
 1 − m/2, so uniform illumination of a dual gives m × the nominal one-element response; the
 datasheet balance |V_A − V_B|/(V_A + V_B) is m/2.
 
+Temperature (:meth:`PyroSensor.at_temperature`, 25 °C reference): a material with a Curie
+point T_C follows the mean-field (Landau–Devonshire) law of a ferroelectric below T_C,
+P_s ∝ (T_C − T)^½, so p = −dP_s/dT ∝ (T_C − T)^−½ and ε_r ∝ 1/(T_C − T); the current
+responsivity scales as p and the element capacitance as ε_r. Within 2 K of T_C the law
+diverges and above it the element depoles: both are refused. A material without a Curie
+point in range (a polymer) or a datasheet sensor uses linear coefficients. The gate
+resistor moves by its own coefficient.
+
 References
 ----------
 .. [1] Putley, E. H., "The pyroelectric detector", Semiconductors and Semimetals 5 (1970).
 .. [2] Porter, S. G., "A brief guide to pyroelectric detectors", Ferroelectrics 33, 193 (1981).
 .. [3] Whatmore, R. W., "Pyroelectric devices and materials", Rep. Prog. Phys. 49, 1335 (1986).
+.. [4] Lines, M. E. and Glass, A. M., *Principles and Applications of Ferroelectrics and
+   Related Materials*, Oxford (1977), ch. 3 and 15: mean-field temperature dependence of the
+   spontaneous polarisation and permittivity; pyroelectric detectors.
 """
 
 from __future__ import annotations
@@ -36,6 +47,8 @@ from scipy import constants, signal
 from ..errors import DesignError, check_choice, check_positive, check_range
 
 EPS0 = constants.epsilon_0
+REFERENCE_K = 298.15  # part values are given at 25 °C [K]
+CURIE_MARGIN = 2.0  # K below T_C where the mean-field law stops being usable
 
 
 @dataclass(frozen=True)
@@ -54,6 +67,10 @@ class PyroMaterial:
         Dielectric loss tan δ.
     heat_capacity : float
         Volumetric heat capacity c' [J m⁻³ K⁻¹].
+    curie_temperature : float or None
+        T_C [K] (None: no Curie point below the material's working limit).
+    pyro_tempco, permittivity_tempco : float
+        Linear relative coefficients of p and ε_r [K⁻¹], used without a Curie point.
     """
 
     name: str
@@ -61,6 +78,9 @@ class PyroMaterial:
     permittivity: float
     loss_tangent: float
     heat_capacity: float
+    curie_temperature: float | None = None
+    pyro_tempco: float = 0.0
+    permittivity_tempco: float = 0.0
 
     @property
     def voltage_figure_of_merit(self) -> float:
@@ -76,13 +96,15 @@ class PyroMaterial:
 
 
 #: Materials table after Whatmore (1986) (figures from memory; docs/validation.md checks
-#: them through the figures of merit).
+#: them through the figures of merit). Curie points after Lines and Glass (1977), from
+#: memory: LiTaO3 ≈ 610 °C, TGS 49 °C, DTGS ≈ 61 °C, a modified lead zirconate ceramic
+#: ≈ 230 °C; PVDF has none below its melting point and rises ≈ 0.4 %/K in p (from memory).
 MATERIALS = {
-    "LiTaO3": PyroMaterial("LiTaO3", 230e-6, 47.0, 0.005, 3.2e6),
-    "TGS": PyroMaterial("TGS", 550e-6, 55.0, 0.025, 2.6e6),
-    "DTGS": PyroMaterial("DTGS", 550e-6, 43.0, 0.02, 2.4e6),
-    "PZ ceramic": PyroMaterial("PZ ceramic", 380e-6, 290.0, 0.003, 2.5e6),
-    "PVDF": PyroMaterial("PVDF", 27e-6, 12.0, 0.015, 2.43e6),
+    "LiTaO3": PyroMaterial("LiTaO3", 230e-6, 47.0, 0.005, 3.2e6, 883.15),
+    "TGS": PyroMaterial("TGS", 550e-6, 55.0, 0.025, 2.6e6, 322.15),
+    "DTGS": PyroMaterial("DTGS", 550e-6, 43.0, 0.02, 2.4e6, 334.15),
+    "PZ ceramic": PyroMaterial("PZ ceramic", 380e-6, 290.0, 0.003, 2.5e6, 503.15),
+    "PVDF": PyroMaterial("PVDF", 27e-6, 12.0, 0.015, 2.43e6, None, 4e-3, 2e-3),
 }
 
 
@@ -178,6 +200,13 @@ class PyroSensor:
         Optical pass band of the window (λ1, λ2) [m].
     window_transmittance : float
         In-band window transmittance.
+    curie_temperature : float or None
+        Curie point of the element material [K] (mean-field temperature law); None: the
+        linear coefficients below.
+    pyro_tempco, permittivity_tempco : float
+        Relative change of p and ε_r per kelvin [K⁻¹] (without a Curie point).
+    gate_resistance_tempco : float
+        Relative change of R_G per kelvin [K⁻¹].
     """
 
     elements: tuple[SensingElement, ...]
@@ -192,6 +221,10 @@ class PyroSensor:
     heat_capacity: float | None = None
     band: tuple[float, float] = (5e-6, 14e-6)
     window_transmittance: float = 0.75
+    curie_temperature: float | None = None
+    pyro_tempco: float = 0.0
+    permittivity_tempco: float = 0.0
+    gate_resistance_tempco: float = 0.0
 
     def __post_init__(self):
         if not self.elements:
@@ -215,6 +248,45 @@ class PyroSensor:
         check_range("sensor.window_transmittance", self.window_transmittance, 0.0, 1.0)
         if self.heat_capacity is not None:
             check_positive("sensor.heat_capacity", self.heat_capacity, "J/K")
+        if self.curie_temperature is not None:
+            check_range("sensor.curie_temperature", self.curie_temperature, 200.0, 2000.0, "K")
+        for key in ("pyro_tempco", "permittivity_tempco", "gate_resistance_tempco"):
+            check_range(f"sensor.{key}", getattr(self, key), -0.02, 0.02, "1/K")
+
+    def temperature_factors(self, temperature: float) -> tuple[float, float]:
+        """(p(T)/p(25 °C), ε_r(T)/ε_r(25 °C)) of the element material at ``temperature`` [K]."""
+        delta = temperature - REFERENCE_K
+        tc = self.curie_temperature
+        if tc is None:
+            p, e = 1.0 + self.pyro_tempco * delta, 1.0 + self.permittivity_tempco * delta
+            if p <= 0 or e <= 0:
+                raise DesignError(
+                    "detector temperature", f"{temperature - 273.15:.4g} °C",
+                    "a temperature where the sensor's linear coefficients keep p and ε_r "
+                    "positive",
+                )  # fmt: skip
+            return p, e
+        if temperature > tc - CURIE_MARGIN:
+            raise DesignError(
+                "detector temperature", f"{temperature - 273.15:.4g} °C",
+                f"more than {CURIE_MARGIN:g} K below the element material's Curie point "
+                f"{tc - 273.15:.4g} °C (near it the response diverges; above it the element "
+                "depoles)",
+            )  # fmt: skip
+        ratio = (tc - REFERENCE_K) / (tc - temperature)
+        return math.sqrt(ratio), ratio
+
+    def at_temperature(self, temperature: float) -> PyroSensor:
+        """The sensor at ``temperature`` [K]: responsivity with p, element capacitance with
+        ε_r, gate resistor with its coefficient."""
+        p, e = self.temperature_factors(temperature)
+        k_rg = 1.0 + self.gate_resistance_tempco * (temperature - REFERENCE_K)
+        return replace(
+            self,
+            current_responsivity=self.current_responsivity * p,
+            element_capacitance=self.element_capacitance * e,
+            gate_resistance=self.gate_resistance * k_rg,
+        )
 
     # -- construction routes ------------------------------------------------------------
     @classmethod
@@ -277,7 +349,12 @@ class PyroSensor:
             gate_resistance=gate_resistance,
             loss_tangent=mat.loss_tangent,
             heat_capacity=heat_cap,
-            **kw,
+            **{
+                "curie_temperature": mat.curie_temperature,
+                "pyro_tempco": mat.pyro_tempco,
+                "permittivity_tempco": mat.permittivity_tempco,
+                **kw,
+            },
         )
 
     @classmethod
