@@ -46,6 +46,8 @@ UNIT_ALIASES = {
     "V/rtHz": ("V/rtHz", "V/√Hz"),
     "A/rtHz": ("A/rtHz", "A/√Hz"),
     "lux": ("lux", "lx"),
+    "V/K": ("V/K",),
+    "1/K": ("1/K", "/K"),
 }
 _NUM = r"[0-9]+(?:\.[0-9]*)?(?:[eE][-+]?[0-9]+)?|\.[0-9]+(?:[eE][-+]?[0-9]+)?"
 _PLAIN = re.compile(rf"^\s*([-+]?(?:{_NUM}))\s*([afpnuµμmkKMGT]?)\s*(.*?)\s*$")

@@ -125,7 +125,9 @@ def test_follower_square_law_equals_oracle(idss, pinch_off, r_s, seed):
     # gate swings beyond pinch-off (cut-off) and up to 0.5 V
     v = np.random.default_rng(seed).uniform(-1.3 * pinch_off, 0.5, (4, 300))
     run = _quiet(lambda: det.drive("gate", v, FS, ("source",)))
-    np.testing.assert_allclose(run.source_voltage, oracles.source_voltage(det.follower, v), atol=1e-13)
+    np.testing.assert_allclose(
+        run.source_voltage, oracles.source_voltage(det.follower, v), atol=1e-13
+    )
 
 
 AMP = OpAmp(gbw=1e6, v_low=0.05, v_high=3.25)

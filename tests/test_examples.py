@@ -38,8 +38,12 @@ def test_bias_for_two_wire_budget():
         float(v[k][0])
         for k in ("chosen_source_resistor", "chosen_drain_current", "chosen_source_voltage")
     )
-    # Shockley: R_S I_DSS (1 − V_S/|V_P|)² = V_S with the demo JFET (400 µA, 1.2 V)
-    assert r_s * 400e-6 * (1 - v_s / 1.2) ** 2 == pytest.approx(v_s, rel=1e-4)
+    # Shockley (Sedra & Smith): R_S I_DSS (1 + (V_G − V_S)/|V_P|)² = V_S with the demo JFET
+    # (400 µA, 1.2 V at 25 °C; the example's parts are at the demo room's 21 °C: I_DSS ∝ T^−1.5,
+    # |V_P| − 2.2 mV/K, common practice) and the gate lifted by its leakage through R_G
+    v_g = float(v["gate_bias"][0])
+    idss, vp = 400e-6 * (294.15 / 298.15) ** -1.5, 1.2 - 4 * 2.2e-3
+    assert r_s * idss * (1 + (v_g - v_s) / vp) ** 2 == pytest.approx(v_s, rel=1e-4)
     assert i_d == pytest.approx(v_s / r_s, rel=1e-5)
     assert float(v["chosen_total_current"][0]) <= 30e-6
     # the table row just below the chosen R_S exceeds the budget
@@ -49,9 +53,24 @@ def test_bias_for_two_wire_budget():
     assert smaller and all(totals[r] > 30.0 for r in smaller)
     c1 = float(v["chosen_c1"][0])
     assert float(v["chosen_low_corner"][0]) == pytest.approx(
-        1 / (2 * math.pi * 10e3 * c1), rel=1e-5
+        # R1 = 10 kΩ at 25 °C with the demo's +100 ppm/K, at the room's 21 °C
+        1 / (2 * math.pi * 10e3 * (1 - 4 * 100e-6) * c1),
+        rel=1e-5,
     )
     assert float(v["chosen_warm_up"][0]) <= 30.0
+    # the trade: at every source resistor, the op-amp that draws more current (lower white
+    # noise and 1/f corner) gives less comparator-input noise and a longer range at one false
+    # trigger per year (issue 13: the trade must not come out flat); direction only
+    trade = [tuple(map(float, r)) for r in re.findall(
+        r"^trade:\s+([\d.]+)\s+([\d.]+)\s+([\d.]+)\s+([\d.]+)\s+([\d.]+)\s+([\d.]+)$",
+        out, flags=re.M)]  # fmt: skip
+    assert len(trade) == 9
+    for r_s in {t[1] for t in trade}:
+        col = sorted((t for t in trade if t[1] == r_s), key=lambda t: t[0])
+        sigma, rng, supply = [t[3] for t in col], [t[5] for t in col], [t[2] for t in col]
+        assert supply[0] < supply[1] < supply[2]
+        assert sigma[0] > sigma[1] > sigma[2]
+        assert rng[0] < rng[1] < rng[2]
 
 
 def test_wall_range_vs_sensitivity():

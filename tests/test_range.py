@@ -101,11 +101,13 @@ def flat_detector():
     )
     lens = Lens((Facet(0.0, 0.0, 20e-3, 1e-4, 1.0),))
     det = demo_detector()
+    # a gate resistor of ~10^14 Ω: no leakage, or it would lift the gate by hundreds of volts
+    jfet = dataclasses.replace(det.follower.jfet, gate_leakage=0.0)
     return Detector(
         lens,
         Mount("wall", 1.0),
         sensor,
-        det.follower,
+        dataclasses.replace(det.follower, jfet=jfet),
         (TransferStage((1000.0,), (1.0,)),),
         None,
         SINGLE,

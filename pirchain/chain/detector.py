@@ -24,6 +24,8 @@ from ..physics.optics import Beams, Lens, Mount, crossing_frequency, make_beams
 from ..physics.sensor import REFERENCE_K, PyroSensor
 from .engine import TAPS, ChainRun, CompiledChain, WalkOutcomes, compile_chain
 
+MAX_GATE_LIFT = 5.0  # V: beyond, the gate junction would be forward-biased long before
+
 
 @dataclass(frozen=True)
 class Detector:
@@ -70,6 +72,12 @@ class Detector:
         object.__setattr__(self, "stages", tuple(self.stages))
         if self.follower is not None:
             bias = self.follower.jfet.gate_leakage * self.sensor.gate_resistance
+            if bias > MAX_GATE_LIFT:
+                raise DesignError(
+                    "follower.jfet.gate_leakage", self.follower.jfet.gate_leakage,
+                    f"a leakage that lifts the gate through R_G = {self.sensor.gate_resistance:.3g}"
+                    f" Ω by at most {MAX_GATE_LIFT:g} V (it lifts it {bias:.3g} V here)",
+                )  # fmt: skip
             if bias != self.follower.gate_bias:
                 object.__setattr__(self, "follower", replace(self.follower, gate_bias=bias))
         if self.supply is not None and self.follower is not None:

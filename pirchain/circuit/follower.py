@@ -30,7 +30,7 @@ from dataclasses import dataclass, replace
 import control
 from scipy import constants
 
-from ..errors import check_nonnegative, check_positive, check_range, check_real
+from ..errors import DesignError, check_nonnegative, check_positive, check_range, check_real
 from .noise import NoiseSource
 
 K_B, Q_E = constants.k, constants.e
@@ -81,6 +81,9 @@ class Jfet:
         Gate leakage current I_G at 25 °C [A] (out of the gate into the gate resistor).
     kf, af : float
         Flicker noise of the drain current, KF I_D^AF / f [A² Hz⁻¹] (SPICE's JFET form).
+    e_n_corner : float
+        Or, datasheet style, the flicker corner of the voltage noise [Hz]: flicker density
+        e_n² f_c / f on the white e_n (give this or ``kf``, not both).
 
     Notes
     -----
@@ -95,6 +98,7 @@ class Jfet:
     gate_leakage: float = 0.5e-12
     kf: float = 0.0
     af: float = 1.0
+    e_n_corner: float = 0.0
 
     def __post_init__(self):
         # small-signal JFETs: I_DSS of µA to tens of mA, |V_P| of tenths of a volt to a few
@@ -108,6 +112,12 @@ class Jfet:
         check_range("follower.jfet.gate_leakage", self.gate_leakage, 0.0, 1e-6, "A")
         check_range("follower.jfet.kf", self.kf, 0.0, 1e-6, "A (SPICE KF)")
         check_range("follower.jfet.af", self.af, 0.5, 2.5)
+        check_range("follower.jfet.e_n_corner", self.e_n_corner, 0.0, 1e6, "Hz")
+        if self.kf > 0 and self.e_n_corner > 0:
+            raise DesignError(
+                "follower.jfet.e_n_corner", self.e_n_corner,
+                "0 when kf is given (flicker noise as KF/AF or as a corner, not both)",
+            )  # fmt: skip
 
     def at_temperature(self, delta: float) -> Jfet:
         """This JFET ``delta`` kelvin above 25 °C (leakage, I_DSS and |V_P| moved)."""
@@ -200,8 +210,15 @@ class SourceFollower:
             return 0.0, 0.0
         j = self.jfet
         white = 8.0 * K_B * temperature / (3.0 * gm) if j.e_n is None else j.e_n**2
-        flicker = j.kf * self.drain_current**j.af / gm**2
+        flicker = j.kf * self.drain_current**j.af / gm**2 + white * j.e_n_corner
         return white, flicker
+
+    def spice_kf(self, temperature: float) -> float:
+        """KF that gives this follower's flicker noise at its operating point in SPICE's
+        KF I_D^AF/f form [SPICE units]."""
+        flicker = self.voltage_noise(temperature)[1]
+        i_d = self.drain_current
+        return flicker * self.transconductance**2 / i_d**self.jfet.af if i_d > 0 else 0.0
 
     def current_noise(self) -> float:
         """Gate current noise density² [A² Hz⁻¹]: 2qI_G, or the datasheet i_n²."""

@@ -164,6 +164,7 @@ def netlist(
     vdd = detector.supply.voltage if detector.supply is not None else 3.3
     writer = NetlistWriter(detector.temperature, noise is not None)
     t_c = detector.temperature - 273.15
+    kf = fol.spice_kf(detector.temperature)
     lines = [
         f"* pirchain netlist: {detector.name}",
         "* sensor as the equivalent pyroelectric current into R_G || C_gate",
@@ -188,7 +189,7 @@ def netlist(
         f"RS src 0 {_g(fol.source_resistance)}",
         f".model JF1 NJF(VTO={_g(-fol.jfet.pinch_off)} "
         f"BETA={_g(fol.jfet.idss / fol.jfet.pinch_off**2)} LAMBDA=0 IS=1e-20"
-        + (f" KF={_g(fol.jfet.kf)} AF={_g(fol.jfet.af)})" if fol.jfet.kf > 0 else ")"),
+        + (f" KF={_g(kf)} AF={_g(fol.jfet.af)})" if kf > 0 else ")"),
     ]
     if fol.jfet.gate_leakage > 0:
         lines += [

@@ -19,9 +19,7 @@ References
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
-
-from dataclasses import replace
+from dataclasses import dataclass, replace
 
 import control
 

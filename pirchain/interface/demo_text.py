@@ -41,6 +41,7 @@ thickness = "25u"
 absorptance = 0.8
 thermal_time_constant = "350m"
 gate_resistance = "60G"
+gate_resistance_tempco = "-300u"   # per kelvin (-300 ppm/K); the material sets p(T), eps(T)
 input_capacitance = "3p"
 mismatch = 0.05
 
@@ -48,16 +49,21 @@ mismatch = 0.05
 idss = "400u"
 pinch_off = 1.2
 source_resistance = "47k"
-e_n = "15n"
-i_n = "200a"
+# noise from the operating point (e_n, i_n unset); flicker as a datasheet corner
+gate_leakage = "0.5p"    # at 25 °C; doubles every 10 K
+e_n_corner = 200
 
 [opamp]                  # default op-amp of every stage
 gbw = "100k"
 v_low = 0.02
 v_high = 3.28
 quiescent_current = "7u"
-e_n = "50n"
+e_n = "50n"              # white density; e_n_at = <Hz> if read off the curve elsewhere
+e_n_corner = 20
 i_n = "1f"
+i_n_corner = 10
+offset = "1m"            # at 25 °C
+offset_drift = "3u"      # V/K
 
 [[stages]]
 type = "non_inverting_band_pass"
@@ -67,6 +73,8 @@ c1 = "22u"
 rf = "560k"
 cf = "27n"
 v_ref = 0
+c1_leakage = "200M"      # electrolytic C1: 5 nA at 1 V
+r_tempco = "100u"        # per kelvin
 
 [[stages]]
 type = "inverting_band_pass"
@@ -76,6 +84,8 @@ c1 = "10u"
 rf = "1M"
 cf = "15n"
 v_ref = "reference"      # the supply's reference divider
+c1_leakage = "200M"
+r_tempco = "100u"
 
 [comparator]
 window = "ladder"        # "ladder", "fixed" or "mapped"
@@ -111,6 +121,7 @@ limit = "150u"
 target = "adult"
 speed = 1.0
 air_c = 21.0
+# detector_c = 21.0      # the parts' own temperature (default: the air's)
 
 [draught]
 rms = 0.01

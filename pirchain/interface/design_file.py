@@ -20,7 +20,7 @@ import tomllib
 from ..chain.detector import Detector
 from ..circuit.comparator import FixedWindow, LadderWindow, MappedWindow, WindowComparator
 from ..circuit.follower import Jfet, SourceFollower
-from ..circuit.opamp import OpAmp
+from ..circuit.opamp import OpAmp, white_density
 from ..circuit.stages import STAGE_TYPES
 from ..circuit.supply import PowerSupply
 from ..design import Design
@@ -182,16 +182,34 @@ def _sensor(c):
                 **common,
             ),
         )
-    if c["loss_tangent"] is not None:
-        s = _build("sensor", lambda: dataclasses.replace(s, loss_tangent=c["loss_tangent"]))
+    moved = {
+        key: c[key]
+        for key in ("loss_tangent", "pyro_tempco", "permittivity_tempco", "gate_resistance_tempco")
+        if c[key] is not None
+    }
+    if c["curie_c"] is not None:
+        moved["curie_temperature"] = c["curie_c"] + 273.15
+    if moved:
+        s = _build("sensor", lambda: dataclasses.replace(s, **moved))
     return s
+
+
+def _opamp(where: str, c: dict) -> OpAmp:
+    """An op-amp from its section; a noise density read at a frequency (``e_n_at``) is
+    turned into the white level with its corner."""
+    c = dict(c)
+    for kind in ("e_n", "i_n"):
+        at = c.pop(f"{kind}_at")
+        if at is not None:
+            c[kind] = _build(
+                f"{where}.{kind}_at", lambda k=kind, f=at: white_density(c[k], f, c[f"{k}_corner"])
+            )
+    return _build(where, lambda: OpAmp(**c))
 
 
 def _stage(i, c, default_amp, supply):
     where = f"stages[{i}]"
-    amp = (
-        default_amp if c["opamp"] is None else _build(f"{where}.opamp", lambda: OpAmp(**c["opamp"]))
-    )
+    amp = default_amp if c["opamp"] is None else _opamp(f"{where}.opamp", c["opamp"])
     cls = STAGE_TYPES[c["type"]]
     vref = c["v_ref"]
     if vref == "reference":
@@ -205,14 +223,28 @@ def _stage(i, c, default_amp, supply):
         return _build(
             where,
             lambda: cls(
-                c["r1"], c["c1"], c["rf"], c["cf"], amp, dflt if vref is None else vref, name
-            ),
+                c["r1"],
+                c["c1"],
+                c["rf"],
+                c["cf"],
+                amp,
+                dflt if vref is None else vref,
+                name,
+                c["c1_leakage"],
+                c["r_tempco"],
+                c["c_tempco"],
+            ),  # fmt: skip
         )
     if c["type"] in ("rc_high_pass", "rc_low_pass"):
         for key in ("r", "c"):
             if c[key] is None:
                 raise DesignError(f"{where}.{key}", "missing", f"a value for a {c['type']} stage")
-        return _build(where, lambda: cls(c["r"], c["c"], 0.0 if vref is None else vref, name))
+        return _build(
+            where,
+            lambda: cls(
+                c["r"], c["c"], 0.0 if vref is None else vref, name, c["r_tempco"], c["c_tempco"]
+            ),
+        )
     for key in ("num", "den"):
         if c[key] is None:
             raise DesignError(f"{where}.{key}", "missing", "polynomial coefficients (s^n first)")
@@ -256,7 +288,7 @@ def design_from_dict(data: dict) -> Design:
     """Build a :class:`Design` from parsed TOML data (raises :class:`DesignError`)."""
     c = _read(data, SCHEMA, "")
     supply = _build("supply", lambda: PowerSupply(**c["supply"]))
-    amp = _build("opamp", lambda: OpAmp(**c["opamp"]))
+    amp = _opamp("opamp", c["opamp"])
     stages = tuple(_stage(i, s, amp, supply) for i, s in enumerate(c["stages"]))
     lg = dict(c["logic"])
     day = lg.pop("daylight")
@@ -270,7 +302,17 @@ def design_from_dict(data: dict) -> Design:
     follower = _build(
         "follower",
         lambda: SourceFollower(
-            Jfet(fol["idss"], fol["pinch_off"], fol["e_n"], fol["i_n"]), fol["source_resistance"]
+            Jfet(
+                fol["idss"],
+                fol["pinch_off"],
+                fol["e_n"],
+                fol["i_n"],
+                fol["gate_leakage"],
+                fol["kf"],
+                fol["af"],
+                fol["e_n_corner"],
+            ),
+            fol["source_resistance"],  # fmt: skip
         ),
     )
     mount = _build("mount", lambda: Mount(**c["mount"]))
@@ -301,7 +343,9 @@ def design_from_dict(data: dict) -> Design:
     settings = _build("analysis", lambda: AnalysisSettings(**a))
     return _build(
         "scene",
-        lambda: Design(det, env, sc["target"], sc["speed"], dr, sc["lux"], settings),
+        lambda: Design(
+            det, env, sc["target"], sc["speed"], dr, sc["lux"], settings, sc["detector_c"]
+        ),
     )
 
 

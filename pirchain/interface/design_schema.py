@@ -91,11 +91,17 @@ FACET = {
     "area": _q("m2"),
     "transmittance": _q(None, From(Facet)),
 }
-OPAMP = _fields(
-    OpAmp,
-    {"gbw": "Hz", "v_low": "V", "v_high": "V", "quiescent_current": "A", "e_n": "V/rtHz",
-     "i_n": "A/rtHz", "open_loop_gain": None},
-)  # fmt: skip
+OPAMP = {
+    **_fields(
+        OpAmp,
+        {"gbw": "Hz", "v_low": "V", "v_high": "V", "quiescent_current": "A", "e_n": "V/rtHz",
+         "i_n": "A/rtHz", "open_loop_gain": None, "e_n_corner": "Hz", "i_n_corner": "Hz",
+         "offset": "V", "offset_drift": "V/K"},
+    ),
+    # the frequency the e_n / i_n figure was read at (none: they are the white levels)
+    "e_n_at": _q("Hz", None),
+    "i_n_at": _q("Hz", None),
+}  # fmt: skip
 STAGE = {
     "type": _choice(STAGE_TYPES),
     "name": ("str", None, ""),  # empty: "stage <n>"
@@ -107,6 +113,9 @@ STAGE = {
     "c": _q("F", None),
     "num": ("list", None, None),
     "den": ("list", None, None),
+    "c1_leakage": _q("ohm", None),  # leakage resistance across an electrolytic C1
+    "r_tempco": _q("1/K", 0.0),
+    "c_tempco": _q("1/K", 0.0),
     "v_ref": ("vref", None, None),  # none: the stage type's usual reference
     "clamp": ("bool", None, True),
     "opamp": ("section", OPAMP, None),
@@ -162,6 +171,11 @@ SCHEMA = {
             "element_capacitance": _q("F", From(_DATASHEET)),
             "reference_frequency": _q("Hz", From(_DATASHEET)),
             "loss_tangent": _q(None, None),  # none: the material's (or the model's default)
+            # temperature: none keeps the material's law (or, for a datasheet sensor, none)
+            "curie_c": ("celsius", None, None),
+            "pyro_tempco": _q("1/K", None),
+            "permittivity_tempco": _q("1/K", None),
+            "gate_resistance_tempco": _q("1/K", From(PyroSensor)),
         },
         REQ,
     ),
@@ -171,8 +185,12 @@ SCHEMA = {
             "idss": _q("A"),
             "pinch_off": _q("V"),
             "source_resistance": _q("ohm"),
-            "e_n": _q("V/rtHz", From(Jfet)),
-            "i_n": _q("A/rtHz", From(Jfet)),
+            "e_n": _q("V/rtHz", From(Jfet)),  # none: from the operating point
+            "i_n": _q("A/rtHz", From(Jfet)),  # none: shot noise of the gate leakage
+            "gate_leakage": _q("A", From(Jfet)),
+            "e_n_corner": _q("Hz", From(Jfet)),
+            "kf": _q(None, From(Jfet)),
+            "af": _q(None, From(Jfet)),
         },
         REQ,
     ),
@@ -252,6 +270,7 @@ SCHEMA = {
             "background_emissivity": _q(None, From(Environment)),
             "air_speed": _q("m/s", From(Environment)),
             "lux": _q("lux", From(Design)),
+            "detector_c": ("celsius", None, From(Design)),  # none: the air temperature
         },
         {},
     ),

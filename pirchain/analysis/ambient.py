@@ -1,0 +1,203 @@
+"""How a design rides out its surroundings: room-temperature ramps and HVAC cycling over a
+stated set of cases, each through the whole chain, with the worst case named.
+
+Each case is a deterministic disturbance (:mod:`pirchain.analysis.drift`): a uniform ramp of
+every surface in view at a rate in K/min (it leaks through the element mismatch) or a warm-air
+burst repeated every period on a surface seen unequally by the + and − beams. For every case
+the output turn-ons it causes by itself are counted, and the comparator input's largest
+excursion towards each window edge is compared with that edge: the margin left, in volts
+and in standard deviations of the comparator-input noise (the less margin, the more the
+noise alone will fire the detector while the disturbance lasts). The worst case has the
+most turn-ons, then the least margin.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..errors import DesignError, check_positive, check_range
+from ..physics.disturbance import AmbientRamp, HvacCycle
+from .drift import hvac_response, ramp_response
+from .false_triggers import analytic_rate
+
+
+def _values(field: str, values, low: float, high: float, unit: str) -> tuple[float, ...]:
+    values = tuple(values)
+    if not 1 <= len(values) <= 50:
+        raise DesignError(field, len(values), "between 1 and 50 values")
+    return tuple(check_range(f"{field}[{i}]", v, low, high, unit) for i, v in enumerate(values))
+
+
+@dataclass(frozen=True)
+class AmbientCases:
+    """The stated set of ambient cases a design is judged on.
+
+    Attributes
+    ----------
+    ramp_rates : tuple of float
+        Rates of uniform room-temperature ramps [K min⁻¹] (illustrative defaults: HVAC
+        switching and sun on a wall give a few tenths to a few K/min, common practice).
+    ramp_minutes : float
+        How long each ramp lasts [min].
+    hvac_amplitudes : tuple of float
+        Surface temperature rise of each HVAC case [K].
+    hvac_period, hvac_on_time, hvac_rise, hvac_decay : float
+        Cycle of the warm-air bursts [s] (:class:`pirchain.physics.disturbance.HvacCycle`).
+    hvac_fraction_plus, hvac_fraction_minus : float
+        Fractions of the + and − beams that see the warmed surface.
+    hvac_cycles : int
+        Cycles simulated per case.
+    sample_rate : float
+        Sample rate of these slow simulations [Hz].
+    """
+
+    ramp_rates: tuple[float, ...] = (-2.0, -1.0, -0.5, 0.5, 1.0, 2.0)
+    ramp_minutes: float = 10.0
+    hvac_amplitudes: tuple[float, ...] = (0.25, 0.5, 1.0)
+    hvac_period: float = 600.0
+    hvac_on_time: float = 120.0
+    hvac_rise: float = 20.0
+    hvac_decay: float = 60.0
+    hvac_fraction_plus: float = 0.3
+    hvac_fraction_minus: float = 0.1
+    hvac_cycles: int = 3
+    sample_rate: float = 20.0
+
+    def __post_init__(self):
+        rates = _values("ambient.ramp_rates", self.ramp_rates, -60.0, 60.0, "K/min")
+        object.__setattr__(self, "ramp_rates", rates)
+        amps = _values("ambient.hvac_amplitudes", self.hvac_amplitudes, -20.0, 20.0, "K")
+        object.__setattr__(self, "hvac_amplitudes", amps)
+        check_range("ambient.ramp_minutes", self.ramp_minutes, 0.1, 600.0, "min")
+        if isinstance(self.hvac_cycles, bool) or not isinstance(self.hvac_cycles, int):
+            raise DesignError("ambient.hvac_cycles", self.hvac_cycles, "an integer")
+        check_range("ambient.hvac_cycles", self.hvac_cycles, 1, 100)
+        check_range("ambient.sample_rate", self.sample_rate, 1.0, 1000.0, "Hz")
+        self.hvac(1.0)  # checks the cycle's own fields
+        seconds = max(self.ramp_minutes * 60.0, self.hvac_cycles * self.hvac_period)
+        n = seconds * self.sample_rate * (len(rates) + len(amps))
+        if n > 1e9:
+            raise DesignError("ambient", f"{n:.3g} samples", "at most 1e9 samples in all")
+
+    def ramps(self) -> list[AmbientRamp]:
+        """The ramp cases."""
+        return [AmbientRamp(r, 5.0, self.ramp_minutes * 60.0) for r in self.ramp_rates]
+
+    def hvac(self, amplitude: float) -> HvacCycle:
+        """The HVAC case of one amplitude [K]."""
+        return HvacCycle(
+            amplitude, self.hvac_rise, self.hvac_decay, self.hvac_on_time, self.hvac_period,
+            self.hvac_fraction_plus, self.hvac_fraction_minus,
+        )  # fmt: skip
+
+
+@dataclass(frozen=True)
+class AmbientCase:
+    """One case's outcome.
+
+    Attributes
+    ----------
+    kind : {"ramp", "hvac"}
+    value : float
+        Ramp rate [K min⁻¹] or HVAC amplitude [K].
+    turn_ons : int
+        Output turn-ons the disturbance caused by itself.
+    excursion_up, excursion_down : float
+        Largest excursion of the comparator input above and below its rest [V].
+    margin : float
+        Smallest distance left to a window edge [V] (negative: the edge was crossed).
+    margin_sigma : float
+        ``margin`` in standard deviations of the comparator-input noise.
+    time, comparator_input : numpy.ndarray
+        The waveform [s], [V].
+    """
+
+    kind: str
+    value: float
+    turn_ons: int
+    excursion_up: float
+    excursion_down: float
+    margin: float
+    margin_sigma: float
+    time: np.ndarray
+    comparator_input: np.ndarray
+
+    @property
+    def label(self) -> str:
+        """E.g. "ramp +1 K/min" or "HVAC 0.5 K"."""
+        if self.kind == "ramp":
+            return f"ramp {self.value:+g} K/min"
+        return f"HVAC {self.value:g} K"
+
+
+@dataclass(frozen=True)
+class AmbientStudy:
+    """Every case, the window and the noise they were judged against."""
+
+    cases: tuple[AmbientCase, ...]
+    window: tuple[float, float]
+    rest: float
+    sigma: float
+
+    @property
+    def worst(self) -> AmbientCase:
+        """Most turn-ons, then least margin."""
+        return max(self.cases, key=lambda c: (c.turn_ons, -c.margin))
+
+    def table(self) -> str:
+        """Plain-text table of the cases and the worst one."""
+        rows = [f"{'case':<18s} {'turn-ons':>8s} {'up mV':>8s} {'down mV':>8s} {'margin':>14s}"]
+        for c in self.cases:
+            rows.append(
+                f"{c.label:<18s} {c.turn_ons:8d} {c.excursion_up * 1e3:8.2f} "
+                f"{c.excursion_down * 1e3:8.2f} {c.margin * 1e3:7.1f} mV "
+                f"{c.margin_sigma:4.1f}σ"
+            )
+        rows.append(f"worst case: {self.worst.label}")
+        return "\n".join(rows)
+
+
+def ambient_study(detector, env, cases: AmbientCases, draught=None) -> AmbientStudy:
+    """Run every case of ``cases`` through ``detector`` in ``env``.
+
+    Parameters
+    ----------
+    detector : Detector
+        At its operating temperature (:attr:`pirchain.design.Design.operating`).
+    env : Environment
+    cases : AmbientCases
+    draught : Draught, optional
+        Included in the noise the margins are counted in.
+    """
+    check_positive("ambient.sample_rate", cases.sample_rate, "Hz")
+    lo, hi = detector.window()
+    rest = detector.rest_levels()[-1]
+    sigma = analytic_rate(detector, env, draught).sigma
+    responses = [("ramp", r.rate, ramp_response(detector, env, r, None, cases.sample_rate))
+                 for r in cases.ramps()]  # fmt: skip
+    responses += [
+        ("hvac", a, hvac_response(detector, env, cases.hvac(a), cases.hvac_cycles,
+                                  cases.sample_rate))
+        for a in cases.hvac_amplitudes
+    ]  # fmt: skip
+    out = []
+    for kind, value, resp in responses:
+        dev = resp.comparator_input - rest
+        up, down = max(float(dev.max()), 0.0), max(float(-dev.min()), 0.0)
+        margin = min(hi - rest - up, rest - lo - down)
+        out.append(
+            AmbientCase(
+                kind,
+                float(value),
+                resp.turn_ons,
+                up,
+                down,
+                margin,
+                margin / sigma,
+                resp.time,
+                resp.comparator_input,
+            )  # fmt: skip
+        )
+    return AmbientStudy(tuple(out), (lo, hi), rest, sigma)
