@@ -16,7 +16,7 @@ from functools import cached_property
 
 from .chain.detector import Detector
 from .errors import check_nonnegative, check_range
-from .physics.disturbance import Draught
+from .physics.disturbance import AmbientCases, Draught
 from .physics.scene import (
     DEFAULT_TARGET,
     Environment,
@@ -44,6 +44,8 @@ class Design:
     lux : float or None
         Illuminance for the daylight inhibit during walks [lux] (None: no inhibit).
     analysis : AnalysisSettings
+    ambient : AmbientCases
+        The room-temperature ramps and HVAC cycles the design is judged on.
     detector_c : float or None
         Temperature of the detector's parts [°C] (None: the room's air temperature). A
         detector under a sunlit ceiling or just brought in from a cold van is not at the
@@ -58,6 +60,7 @@ class Design:
     lux: float | None = 5.0
     analysis: AnalysisSettings = field(default_factory=AnalysisSettings)
     detector_c: float | None = None
+    ambient: AmbientCases = field(default_factory=AmbientCases)
 
     def __post_init__(self):
         if isinstance(self.target, str):

@@ -31,6 +31,7 @@ COMMANDS = {
     "range": "detection range per bearing and a top-view coverage map",
     "sweep": "sweep one parameter: range, false triggers, settling, supply",
     "false-triggers": "noise budget and false-trigger rate (Rice and Monte Carlo)",
+    "ambient": "room-temperature ramps and HVAC cycling: triggers, margins, worst case",
     "netlist": "export the analog chain as a SPICE netlist",
     "report": "the full self-contained HTML report",
 }
@@ -112,6 +113,11 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("--budget", default=None, help="false triggers per year allowed")
     sp = add("false-triggers", " Monte Carlo only if --mc-hours is given.")
     sp.add_argument("--mc-hours", default=None, help="simulated hours for the Monte Carlo")
+    sp = add("ambient", " Cases from the design's [ambient] section unless given here.")
+    sp.add_argument("--ramps", default=None, help="comma-separated ramp rates [K/min]")
+    sp.add_argument("--hvac", default=None, help="comma-separated HVAC amplitudes [K]")
+    sp.add_argument("--plot", help="write a PNG of the worst case here")
+    sp.add_argument("--force", action="store_true", help="replace an existing file")
     sp = add("netlist", " With --walk-distance, the PWL source carries that walk.")
     sp.add_argument("-o", "--output", required=True, help="netlist file to write")
     sp.add_argument("--walk-distance", default=None, help="distance of a tangential walk [m]")
@@ -432,6 +438,37 @@ def cmd_false_triggers(args):
     _emit(args, data, text)
 
 
+def cmd_ambient(args):
+    from ..analysis.ambient import ambient_study
+
+    _outputs(args, "--plot")
+    d = _design(args)
+    cases = d.ambient
+    for key, option in (("ramp_rates", "--ramps"), ("hvac_amplitudes", "--hvac")):
+        text = getattr(args, option[2:])
+        if text is None:
+            continue
+        try:
+            cases = dataclasses.replace(cases, **{key: tuple(_list(text, option))})
+        except DesignError as err:  # name the option, keep the index of the bad value
+            field = err.field.replace(f"ambient.{key}", option)
+            raise DesignError(field, err.value, err.expected) from None
+    study = ambient_study(d.operating, d.environment, cases, d.draught)
+    if args.plot:
+        from . import plots
+
+        write_new(args.plot, plots.png_bytes(plots.ambient_case(study)), args.force)
+    rows = [
+        {"case": c.label, "kind": c.kind, "value": c.value, "turn_ons": c.turn_ons,
+         "excursion_up_v": c.excursion_up, "excursion_down_v": c.excursion_down,
+         "margin_v": c.margin, "margin_sigma": c.margin_sigma}
+        for c in study.cases
+    ]  # fmt: skip
+    data = {"window_v": list(study.window), "noise_rms_v": study.sigma, "cases": rows,
+            "worst": study.worst.label}  # fmt: skip
+    _emit(args, data, study.table())
+
+
 def cmd_netlist(args):
     from ..circuit.netlist import netlist
     from ..physics.scene import tangential_path, walks_from_paths
@@ -483,6 +520,7 @@ HANDLERS = {
     "range": cmd_range,
     "sweep": cmd_sweep,
     "false-triggers": cmd_false_triggers,
+    "ambient": cmd_ambient,
     "netlist": cmd_netlist,
     "report": cmd_report,
 }

@@ -26,7 +26,7 @@ from ..circuit.supply import PowerSupply
 from ..design import Design
 from ..errors import DesignError
 from ..logic.rules import DaylightInhibit, PulseLogic
-from ..physics.disturbance import Draught
+from ..physics.disturbance import AmbientCases, Draught
 from ..physics.optics import Facet, Lens, LensRing, LensTier, Mount, ceiling_lens, wall_lens
 from ..physics.scene import Environment
 from ..physics.sensor import PyroSensor, dual_elements, quad_elements
@@ -341,11 +341,23 @@ def design_from_dict(data: dict) -> Design:
         if a[key] is not None:
             a[key] = tuple(_quantities(f"analysis.{key}", a[key]))
     settings = _build("analysis", lambda: AnalysisSettings(**a))
+    amb = dict(c["ambient"])
+    for key in ("ramp_rates", "hvac_amplitudes"):
+        amb[key] = tuple(_quantities(f"ambient.{key}", amb[key]))
+    ambient = _build("ambient", lambda: AmbientCases(**amb))
     return _build(
         "scene",
         lambda: Design(
-            det, env, sc["target"], sc["speed"], dr, sc["lux"], settings, sc["detector_c"]
-        ),
+            det,
+            env,
+            sc["target"],
+            sc["speed"],
+            dr,
+            sc["lux"],
+            settings,
+            sc["detector_c"],
+            ambient,
+        ),  # fmt: skip
     )
 
 

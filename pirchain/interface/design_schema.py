@@ -21,7 +21,7 @@ from ..circuit.stages import STAGE_TYPES
 from ..circuit.supply import PowerSupply
 from ..design import Design
 from ..logic.rules import DaylightInhibit, PulseLogic
-from ..physics.disturbance import Draught
+from ..physics.disturbance import AmbientCases, Draught
 from ..physics.optics import Facet, Lens, LensRing, LensTier, Mount, wall_lens
 from ..physics.scene import DEFAULT_TARGET, TARGET_PRESETS, Environment
 from ..physics.sensor import MATERIALS, PyroSensor, dual_elements
@@ -281,6 +281,28 @@ SCHEMA = {
             {"rms": "K", "correlation_time": "s", "beam_correlation": None, "fov_fraction": None},
         ),
         None,
+    ),
+    "ambient": (
+        "section",
+        _fields(
+            AmbientCases,
+            {
+                "ramp_minutes": None,
+                "hvac_period": "s",
+                "hvac_on_time": "s",
+                "hvac_rise": "s",
+                "hvac_decay": "s",
+                "hvac_fraction_plus": None,
+                "hvac_fraction_minus": None,
+                "sample_rate": "Hz",
+            },
+            {
+                "ramp_rates": ("list", None),
+                "hvac_amplitudes": ("list", None),
+                "hvac_cycles": ("int", None),
+            },
+        ),  # fmt: skip
+        {},
     ),
     "analysis": (
         "section",

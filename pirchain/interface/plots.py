@@ -225,3 +225,20 @@ def noise_psd(sources, f=None):
     ax.set_title("Noise at the comparator input")
     ax.legend(fontsize=7)
     return fig
+
+
+def ambient_case(study):
+    """The worst ambient case's comparator input against the window (an
+    :class:`pirchain.analysis.ambient.AmbientStudy`)."""
+    c = study.worst
+    fig, ax = plt.subplots(figsize=(7, 3.2))
+    ax.plot(c.time / 60.0, c.comparator_input, lw=1.0, label="comparator input")
+    for edge in study.window:
+        ax.axhline(edge, color="k", ls="--", lw=0.8)
+    ax.axhline(study.rest, color="0.5", lw=0.6)
+    ax.set_xlabel("time [min]")
+    ax.set_ylabel("[V]")
+    ax.set_title(plain(f"Worst ambient case: {c.label}, {c.turn_ons} turn-ons, margin "
+                       f"{c.margin * 1e3:.0f} mV ({c.margin_sigma:.1f} σ of noise)"))  # fmt: skip
+    ax.legend(loc="upper right", fontsize=8)
+    return fig

@@ -11,6 +11,7 @@ import warnings
 import numpy as np
 
 from .. import __version__
+from ..analysis.ambient import ambient_study
 from ..analysis.coverage import side_view, top_view
 from ..analysis.detection_range import range_table
 from ..analysis.false_triggers import (
@@ -165,6 +166,12 @@ def compute(design, progress=None) -> dict:
     num["sensitivity_1_per_year_ohm"] = r_sens
     est = analytic_rate(det, env, design.draught, sources=sources)
     num["false_per_year"] = est.per(YEAR)
+    study = ambient_study(det, env, design.ambient, design.draught)
+    fig["ambient"] = plots.png_bytes(plots.ambient_case(study))
+    num["ambient_table"] = study.table()
+    num["ambient_worst"] = study.worst.label
+    num["ambient_worst_turn_ons"] = study.worst.turn_ons
+    num["ambient_worst_margin_sigma"] = study.worst.margin_sigma
     tick(7)
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", ValidityWarning)
@@ -222,7 +229,11 @@ def render(design, data: dict) -> str:
             f"{' retriggerable' if det.logic.retrigger else ''}, lockout "
             f"{det.logic.lockout:g} s, logic rate {det.logic.rate:g} Hz",
         ),
-        ("scene", f"{design.target.name} at {design.speed:g} m/s, room {env.air_c:g} °C"),
+        (
+            "scene",
+            f"{design.target.name} at {design.speed:g} m/s, room {env.air_c:g} °C, parts at "
+            f"{det.temperature - 273.15:.4g} °C",
+        ),
     ]
     rng_rows = [
         (
@@ -286,6 +297,16 @@ def render(design, data: dict) -> str:
         f" One false trigger per year at a {num['threshold_1_per_year_v'] * 1e3:.1f} mV threshold"
         + (f" ({_esc(format_eng(r1, 'Ω'))} sensitivity resistor)" if r1 else "")
         + f". The design as drawn: {_esc(format_rate(num['false_per_year']))}.</p>",
+        "<h2>Room-temperature drift and HVAC</h2>",
+        f"<p>Each case runs through the whole chain by itself: uniform ramps of every surface in"
+        f" view for {design.ambient.ramp_minutes:g} min, and {design.ambient.hvac_cycles} cycles"
+        " of warm-air bursts on a surface the + and − beams see unequally. Turn-ons are those "
+        "the disturbance causes alone; the margin is what is left to the nearer window edge, "
+        "also in standard deviations of the comparator-input noise. Worst case: "
+        f"{_esc(num['ambient_worst'])}, {num['ambient_worst_turn_ons']} turn-ons, "
+        f"{num['ambient_worst_margin_sigma']:.1f} σ left.</p>",
+        _img(fig["ambient"], "worst ambient case"),
+        _pre(num["ambient_table"]),
         "<h2>Power-up and supply</h2>",
         _img(fig["power_up"], "power-up"),
         f"<p>Settling (warm-up) time: {num['settling_s']:.1f} s.</p>",

@@ -184,3 +184,73 @@ def hvac_power(detector, env, hvac: HvacCycle, t) -> np.ndarray:
     """P_eq(t) of periodic warm-air bursts [W]."""
     a, b = polarity_sums(detector, env)
     return (hvac.fraction_plus * a + hvac.fraction_minus * b) * hvac.temperature(t)
+
+
+def _values(field: str, values, low: float, high: float, unit: str) -> tuple[float, ...]:
+    values = tuple(values)
+    if not 1 <= len(values) <= 50:
+        raise DesignError(field, len(values), "between 1 and 50 values")
+    return tuple(check_range(f"{field}[{i}]", v, low, high, unit) for i, v in enumerate(values))
+
+
+@dataclass(frozen=True)
+class AmbientCases:
+    """The stated set of ambient cases a design is judged on.
+
+    Attributes
+    ----------
+    ramp_rates : tuple of float
+        Rates of uniform room-temperature ramps [K min⁻¹] (illustrative defaults: HVAC
+        switching and sun on a wall give a few tenths to a few K/min, common practice).
+    ramp_minutes : float
+        How long each ramp lasts [min].
+    hvac_amplitudes : tuple of float
+        Surface temperature rise of each HVAC case [K].
+    hvac_period, hvac_on_time, hvac_rise, hvac_decay : float
+        Cycle of the warm-air bursts [s] (:class:`pirchain.physics.disturbance.HvacCycle`).
+    hvac_fraction_plus, hvac_fraction_minus : float
+        Fractions of the + and − beams that see the warmed surface.
+    hvac_cycles : int
+        Cycles simulated per case.
+    sample_rate : float
+        Sample rate of these slow simulations [Hz].
+    """
+
+    ramp_rates: tuple[float, ...] = (-2.0, -1.0, -0.5, 0.5, 1.0, 2.0)
+    ramp_minutes: float = 10.0
+    hvac_amplitudes: tuple[float, ...] = (0.25, 0.5, 1.0)
+    hvac_period: float = 600.0
+    hvac_on_time: float = 120.0
+    hvac_rise: float = 20.0
+    hvac_decay: float = 60.0
+    hvac_fraction_plus: float = 0.3
+    hvac_fraction_minus: float = 0.1
+    hvac_cycles: int = 3
+    sample_rate: float = 20.0
+
+    def __post_init__(self):
+        rates = _values("ambient.ramp_rates", self.ramp_rates, -60.0, 60.0, "K/min")
+        object.__setattr__(self, "ramp_rates", rates)
+        amps = _values("ambient.hvac_amplitudes", self.hvac_amplitudes, -20.0, 20.0, "K")
+        object.__setattr__(self, "hvac_amplitudes", amps)
+        check_range("ambient.ramp_minutes", self.ramp_minutes, 0.1, 600.0, "min")
+        if isinstance(self.hvac_cycles, bool) or not isinstance(self.hvac_cycles, int):
+            raise DesignError("ambient.hvac_cycles", self.hvac_cycles, "an integer")
+        check_range("ambient.hvac_cycles", self.hvac_cycles, 1, 100)
+        check_range("ambient.sample_rate", self.sample_rate, 1.0, 1000.0, "Hz")
+        self.hvac(1.0)  # checks the cycle's own fields
+        seconds = max(self.ramp_minutes * 60.0, self.hvac_cycles * self.hvac_period)
+        n = seconds * self.sample_rate * (len(rates) + len(amps))
+        if n > 1e9:
+            raise DesignError("ambient", f"{n:.3g} samples", "at most 1e9 samples in all")
+
+    def ramps(self) -> list[AmbientRamp]:
+        """The ramp cases."""
+        return [AmbientRamp(r, 5.0, self.ramp_minutes * 60.0) for r in self.ramp_rates]
+
+    def hvac(self, amplitude: float) -> HvacCycle:
+        """The HVAC case of one amplitude [K]."""
+        return HvacCycle(
+            amplitude, self.hvac_rise, self.hvac_decay, self.hvac_on_time, self.hvac_period,
+            self.hvac_fraction_plus, self.hvac_fraction_minus,
+        )  # fmt: skip
