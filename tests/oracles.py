@@ -198,6 +198,15 @@ def piecewise(stage, u, fs, x0):
     return y, pinned
 
 
+def _offset_at_output(stage) -> float:
+    """An op-amp band-pass stage's input offset at its output: V_os times the DC noise gain
+    1 + Z_f/Z_1 (superposition; Motchenbacher & Connelly). A transfer-function stage's
+    network is unknown and its offset is not modelled."""
+    if not isinstance(stage, NonInvertingBandPass | InvertingBandPass):
+        return 0.0
+    return float(np.real(stage.noise_gain()(0.0))) * stage.opamp.offset
+
+
 def run_stage(stage, u, fs, discharged=False):
     """One stage for a batch of absolute inputs (walks, samples): (output, pinned).
 
@@ -211,7 +220,7 @@ def run_stage(stage, u, fs, discharged=False):
         return piecewise(stage, u, fs, np.zeros((w, n)))
     u0 = u[:, :1]
     h0 = float(np.real(stage.transfer_function()(0.0)))
-    y = stage.v_ref + h0 * (u0 - stage.v_ref)
+    y = stage.v_ref + h0 * (u0 - stage.v_ref) + _offset_at_output(stage)
     y = y + signal.sosfilt(bilinear_sos(stage.transfer_function(), fs), u - u0, axis=-1)
     pinned = np.zeros(u.shape, dtype=bool)
     amp = stage.opamp

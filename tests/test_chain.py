@@ -36,8 +36,21 @@ def test_rest_levels_and_window():
     det = demo_detector()
     levels = det.rest_levels()
     assert levels[0] == pytest.approx(det.follower.offset)
-    assert levels[1] == pytest.approx(levels[0])  # non-inverting stage: DC gain 1
-    assert levels[2] == pytest.approx(1.65)  # AC-coupled inverting stage rests at its v_ref
+    # Horowitz & Hill, op-amp DC analysis with the offset at + and C1's leakage resistance
+    # R_L as the gain leg at DC: non-inverting v_out = v_− + (v_− − v_ref) Rf/(R1 + R_L),
+    # v_− = v_in + V_os; inverting v_out = v_− − (v_in − v_−) Rf/(R1 + R_L), v_− = v_ref + V_os
+    s1, s2 = det.stages
+    vm = levels[0] + s1.opamp.offset
+    assert levels[1] == pytest.approx(vm + (vm - s1.v_ref) * s1.rf / (s1.r1 + s1.c1_leakage))
+    vm = s2.v_ref + s2.opamp.offset
+    assert levels[2] == pytest.approx(vm - (levels[1] - vm) * s2.rf / (s2.r1 + s2.c1_leakage))
+    bare = [
+        dataclasses.replace(st, c1_leakage=None, opamp=dataclasses.replace(st.opamp, offset=0.0))
+        for st in det.stages
+    ]
+    plain = dataclasses.replace(det, stages=tuple(bare)).rest_levels()
+    assert plain[1] == pytest.approx(plain[0])  # non-inverting stage: DC gain 1
+    assert plain[2] == pytest.approx(1.65)  # AC-coupled inverting stage rests at its v_ref
     lo, hi = det.window()
     assert lo < levels[-1] < hi
 

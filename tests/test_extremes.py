@@ -52,7 +52,13 @@ def run(det, paths, duration, rate=100.0):
 def test_electrical_time_constant_of_1000_s():
     base = demo_detector()
     s = PyroSensor.from_datasheet(5000.0, 0.3, 1000.0, 30e-12)
-    res, _ = run(dataclasses.replace(base, sensor=s), [tangential_path(6.0, 0.0, 1.0)], 10.0)
+    # R_G ≈ 5.6e13 Ω: the demo's 0.5 pA leakage would lift the gate 28 V, which is refused
+    with pytest.raises(DesignError, match="gate_leakage"):
+        dataclasses.replace(base, sensor=s)
+    jfet = dataclasses.replace(base.follower.jfet, gate_leakage=1e-14)  # lifts it 0.56 V
+    fol = dataclasses.replace(base.follower, jfet=jfet)
+    det = dataclasses.replace(base, sensor=s, follower=fol)
+    res, _ = run(det, [tangential_path(6.0, 0.0, 1.0)], 10.0)
     assert np.max(np.abs(res.gate_voltage)) > 0
 
 

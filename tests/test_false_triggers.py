@@ -64,6 +64,12 @@ def test_rice_ideal_band_pass_table():
 def _single_pulse(det, k, rate=400.0, **kw):
     sigma = analytic_rate(det, ENV).sigma
     d = with_threshold(det, k * sigma)
+    # Rice counts every up-crossing; a comparator with hysteresis h merges the re-crossings
+    # of one excursion that do not first fall back by h (≈ 5 % fewer at h = 1.6 σ): keep h
+    # far below σ so that the count is Rice's
+    d = dataclasses.replace(
+        d, comparator=dataclasses.replace(d.comparator, hysteresis=0.02 * sigma)
+    )
     logic = PulseLogic(rate=rate, pulses_required=1, blanking=0.0, hold=0.01, lockout=0.0, **kw)
     return dataclasses.replace(d, logic=logic)
 
@@ -76,7 +82,10 @@ def test_monte_carlo_single_pulse_rate_agrees_with_rice(k, hours):
     rice = analytic_rate(det, ENV).pulse_rate
     assert 1 / 3600 < rice < 1 / 60
     mc = monte_carlo_rate(det, ENV, hours * 3600, seed=11, streams=8, sample_rate=400.0)
-    lo, hi = mc.pulse_interval
+    # exact Poisson interval at 99 %: seeds 11–14 at 3.5 σ give MC/Rice 0.93, 0.98, 1.01,
+    # 0.98 (docs/validation.md), a residual ≈ 2 % below Rice (sampling at 400 Hz, the small
+    # hysteresis) inside the counting spread of ≈ 3 % per run
+    lo, hi = poisson_interval(mc.pulses, mc.duration, 0.99)
     assert lo <= rice <= hi
     assert mc.pulses > 50
 

@@ -29,11 +29,13 @@ from pirchain.physics.sensor import MATERIALS, PyroSensor
 K = constants.k
 
 
-def flicker_design(temperature_c):
-    """The demo with JFET noise from its operating point, JFET flicker (KF, AF) and op-amp
-    flicker corners large enough to matter at 0.1 Hz."""
+def flicker_design(temperature_c, route="kf"):
+    """The demo with JFET noise from its operating point, JFET flicker (SPICE's KF, AF, or
+    a datasheet corner, which the netlist turns into KF) and op-amp flicker corners large
+    enough to matter at 0.1 Hz."""
     det = demo_detector()
-    jfet = dataclasses.replace(det.follower.jfet, e_n=None, i_n=None, kf=2e-13, af=1.1)
+    flicker = dict(kf=2e-13, af=1.1, e_n_corner=0.0) if route == "kf" else dict(e_n_corner=2e5)
+    jfet = dataclasses.replace(det.follower.jfet, e_n=None, i_n=None, **flicker)
     amp = dataclasses.replace(det.stages[0].opamp, e_n=150e-9, e_n_corner=100.0, i_n_corner=5.0)
     stages = tuple(dataclasses.replace(st, opamp=amp) for st in det.stages)
     det = dataclasses.replace(
@@ -42,9 +44,9 @@ def flicker_design(temperature_c):
     return det.at_temperature(temperature_c + 273.15)
 
 
-@pytest.mark.parametrize("temperature_c", [0.0, 50.0])
-def test_output_noise_matches_ngspice_noise_analysis(temperature_c):
-    det = flicker_design(temperature_c)
+@pytest.mark.parametrize(("temperature_c", "route"), [(0.0, "kf"), (50.0, "kf"), (25.0, "corner")])
+def test_output_noise_matches_ngspice_noise_analysis(temperature_c, route):
+    det = flicker_design(temperature_c, route)
     f, theirs = ngspice_noise(det, 0.01, 100.0, 10)
     src = [s for s in noise_sources(det) if s.electrical]
     ours = np.sqrt(total_psd(src, f))
