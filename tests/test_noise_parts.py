@@ -8,7 +8,9 @@
 * the mean-field (Landau–Devonshire) temperature law of a ferroelectric below its Curie point
   (Lines and Glass 1977, ch. 3; TGS T_C = 49 °C, from memory);
 * Nyquist's 4kTR (Phys. Rev. 32, 110, 1928) at 0 °C and 50 °C;
-* leakage of a reverse-biased junction doubling every 10 K (common practice).
+* leakage of a reverse-biased junction doubling every 10 K (common practice);
+* ngspice's DC operating point with the op-amp offsets, C1 leakage and gate leakage;
+* the op-amp DC analysis of Horowitz & Hill (the margin arithmetic of the ambient cases).
 """
 
 import dataclasses
@@ -19,11 +21,16 @@ import numpy as np
 import pytest
 from scipy import constants, optimize, signal
 
+from pirchain.analysis.ambient import ambient_study
+from pirchain.analysis.sweep import set_path
 from pirchain.circuit.follower import Jfet, SourceFollower
-from pirchain.circuit.netlist import ngspice_noise
+from pirchain.circuit.netlist import ngspice_noise, run_ngspice
 from pirchain.circuit.noise import NoiseSource, noise_sources, sensor_sources, total_psd
 from pirchain.circuit.synthesis import NoiseSynthesizer
-from pirchain.interface.demo import demo_detector
+from pirchain.errors import DesignError
+from pirchain.interface.demo import demo_design, demo_detector
+from pirchain.interface.demo_text import DEMO_TOML
+from pirchain.interface.design_file import loads
 from pirchain.physics.sensor import MATERIALS, PyroSensor
 
 K = constants.k
@@ -142,3 +149,64 @@ def test_thermal_noise_is_four_kt_r_at_the_parts_temperature(temperature_c):
     st = det.stages[0]
     rf = next(s for s in noise_sources(det) if s.name == "stage 1 Rf (Johnson)")
     assert rf.level == pytest.approx(4 * K * t / st.rf, rel=1e-12)
+
+
+def test_offsets_leakage_and_gate_bias_match_ngspice_operating_point():
+    # ngspice's DC operating point of the exported netlist (offset sources, C1 leakage
+    # resistors, the gate-leakage current source) against the model's rest levels, hot
+    det = demo_detector()
+    amp = dataclasses.replace(det.stages[0].opamp, offset=3e-3, offset_drift=10e-6)
+    stages = tuple(
+        dataclasses.replace(st, opamp=amp, c1_leakage=20e6, r_tempco=200e-6) for st in det.stages
+    )
+    hot = dataclasses.replace(det, stages=stages).at_temperature(323.15)
+    _, v = run_ngspice(hot, None, 100.0, 1.0)
+    levels = hot.rest_levels()
+    for node, ours in zip(("src", "out1", "out2"), levels, strict=True):
+        assert v[node][0] == pytest.approx(ours, abs=1e-4), node
+    assert v["gate"][0] == pytest.approx(hot.follower.gate_bias, rel=1e-3)
+    # the leakage lifts stage 1 by (v_− − v_ref) Rf/(R1 + R_L) on top of the offset
+    assert levels[1] - levels[0] > 2 * hot.stages[0].opamp.offset
+
+
+def test_room_temperature_sweep_moves_the_parts():
+    base = demo_design()
+    warm = set_path(base, "environment.air_c", 31.0)
+    assert warm.operating.temperature == pytest.approx(base.operating.temperature + 10.0)
+    ratio = warm.operating.follower.jfet.gate_leakage / base.operating.follower.jfet.gate_leakage
+    assert ratio == pytest.approx(2.0)  # doubles per 10 K
+    assert warm.operating.follower.gate_bias > base.operating.follower.gate_bias
+    # the parts' own temperature can differ from the room's
+    hot = dataclasses.replace(base, detector_c=50.0)
+    assert hot.operating.temperature == pytest.approx(323.15)
+    assert hot.environment == base.environment
+
+
+def test_datasheet_noise_entry_in_the_design_file():
+    text = DEMO_TOML.replace('e_n = "50n"', 'e_n = "100n"\ne_n_at = 10').replace(
+        "e_n_corner = 20", "e_n_corner = 10"
+    )
+    amp = loads(text).detector.stages[0].opamp
+    # e(f) = e_w √(1 + f_c/f): 100 nV read at 10 Hz with a 10 Hz corner is 70.7 nV white
+    assert amp.e_n == pytest.approx(100e-9 / math.sqrt(2.0))
+    assert amp.e_n_corner == 10.0
+    with pytest.raises(DesignError, match="kf"):
+        loads(DEMO_TOML.replace("e_n_corner = 200", "e_n_corner = 200\nkf = 1e-15"))
+
+
+def test_ambient_cases_count_turn_ons_and_margins():
+    d = demo_design()
+    cases = dataclasses.replace(d.ambient, ramp_rates=(0.5,), hvac_amplitudes=(0.5, 20.0))
+    study = ambient_study(d.operating, d.environment, cases, d.draught)
+    lo, hi = study.window
+    for c in study.cases:
+        assert c.margin == pytest.approx(
+            min(hi - study.rest - c.excursion_up, study.rest - lo - c.excursion_down)
+        )
+        assert c.margin_sigma == pytest.approx(c.margin / study.sigma)
+    big = study.cases[-1]
+    # a 20 K burst crosses the window once per cycle: a pulse each time, but the logic wants
+    # two pulses within its count window, so no turn-on
+    assert big.margin < 0 and big.pulses >= cases.hvac_cycles and big.turn_ons == 0
+    assert study.worst is big
+    assert study.cases[1].pulses == 0 and study.cases[1].margin > 0

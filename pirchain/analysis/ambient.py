@@ -34,6 +34,8 @@ class AmbientCase:
         Ramp rate [K min⁻¹] or HVAC amplitude [K].
     turn_ons : int
         Output turn-ons the disturbance caused by itself.
+    pulses : int
+        Comparator pulses it caused (outside the window; the logic may not count them all).
     excursion_up, excursion_down : float
         Largest excursion of the comparator input above and below its rest [V].
     margin : float
@@ -47,6 +49,7 @@ class AmbientCase:
     kind: str
     value: float
     turn_ons: int
+    pulses: int
     excursion_up: float
     excursion_down: float
     margin: float
@@ -73,15 +76,19 @@ class AmbientStudy:
 
     @property
     def worst(self) -> AmbientCase:
-        """Most turn-ons, then least margin."""
+        """Most turn-ons, then least margin (a pulse the logic did not count is still closer
+        to a trigger than none)."""
         return max(self.cases, key=lambda c: (c.turn_ons, -c.margin))
 
     def table(self) -> str:
         """Plain-text table of the cases and the worst one."""
-        rows = [f"{'case':<18s} {'turn-ons':>8s} {'up mV':>8s} {'down mV':>8s} {'margin':>14s}"]
+        rows = [
+            f"{'case':<18s} {'turn-ons':>8s} {'pulses':>6s} {'up mV':>8s} {'down mV':>8s} "
+            f"{'margin':>14s}"
+        ]
         for c in self.cases:
             rows.append(
-                f"{c.label:<18s} {c.turn_ons:8d} {c.excursion_up * 1e3:8.2f} "
+                f"{c.label:<18s} {c.turn_ons:8d} {c.pulses:6d} {c.excursion_up * 1e3:8.2f} "
                 f"{c.excursion_down * 1e3:8.2f} {c.margin * 1e3:7.1f} mV "
                 f"{c.margin_sigma:4.1f}σ"
             )
@@ -123,12 +130,13 @@ def ambient_study(detector, env, cases: AmbientCases, draught=None) -> AmbientSt
                 kind,
                 float(value),
                 resp.turn_ons,
+                resp.pulses,
                 up,
                 down,
                 margin,
                 margin / sigma,
                 resp.time,
                 resp.comparator_input,
-            )  # fmt: skip
+            )
         )
     return AmbientStudy(tuple(out), (lo, hi), rest, sigma)

@@ -31,6 +31,8 @@ class DisturbanceResponse:
         Largest |v − rest| [V].
     turn_ons : int
         Output turn-ons the logic produced.
+    pulses : int
+        Comparator pulses (excursions outside the window) the logic saw.
     """
 
     time: np.ndarray
@@ -38,14 +40,16 @@ class DisturbanceResponse:
     comparator_input: np.ndarray
     peak_excursion: float
     turn_ons: int
+    pulses: int = 0
 
 
 def _respond(detector, t, p_eq, sample_rate) -> DisturbanceResponse:
     run = detector.drive("equivalent_power", p_eq[None, :], sample_rate, ("comparator",))
     out = run.outcomes
     return DisturbanceResponse(
-        t, p_eq, run.comparator_input[0], float(out.peak[0]), int(out.turn_ons[0])
-    )
+        t, p_eq, run.comparator_input[0], float(out.peak[0]), int(out.turn_ons[0]),
+        int(out.pulses[0]),
+    )  # fmt: skip
 
 
 def ramp_response(

@@ -460,6 +460,7 @@ def cmd_ambient(args):
         write_new(args.plot, plots.png_bytes(plots.ambient_case(study)), args.force)
     rows = [
         {"case": c.label, "kind": c.kind, "value": c.value, "turn_ons": c.turn_ons,
+         "pulses": c.pulses,
          "excursion_up_v": c.excursion_up, "excursion_down_v": c.excursion_down,
          "margin_v": c.margin, "margin_sigma": c.margin_sigma}
         for c in study.cases
