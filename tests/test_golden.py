@@ -12,7 +12,14 @@ hardening work (issue 12): walk positions spread evenly over a beam pitch instea
 at random (ranges move by the 4-trial sampling spread), each walk sampled at a rate from its
 fastest beam crossing, gaps one grid cell wide, the hold and lockout dead time in the
 analytic turn-on rate, and new JSON fields (rate floor, sweep unit and meaning of "best",
-the report's sample-walk distance).
+the report's sample-walk distance). Re-recorded once more for the parts model of issue 13:
+JFET noise from its operating point and the shot noise of its 0.5 pA gate leakage (the demo's
+datasheet i_n of 200 aA/√Hz gave way to √(2qI_G) ≈ 350 aA/√Hz at 21 °C: comparator-input
+noise 11.56 → 12.67 mV, the threshold for one false trigger per year 54.2 → 59.4 mV), op-amp
+and JFET flicker noise, the gate lifted 23 mV by that leakage, 1 mV op-amp offsets and C1
+leakage moving the rest levels (0.9327 → 0.9490 / 0.9523 / 1.6540 V), the parts at the
+room's 21 °C instead of as written, and the ambient section of the report; ranges moved by
+at most one bisection step (≤ 0.56 m radial, ≤ 0.28 m tangential).
 
 Comparison: strings, booleans and integers exactly; floating-point numbers within a
 relative 1e-9 (rounding differences of reordered sums, orders above 1e-16 and far below any

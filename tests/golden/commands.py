@@ -3,8 +3,8 @@
 Each entry: (name, arguments after ``pirchain``, files the command writes). ``make.py``
 runs them and stores the outputs as ``<name>.json`` (standard output) and
 ``<name>.<file>`` (written files); ``tests/test_golden.py`` runs them again and compares.
-The recorded files were made by the code before the single-engine rework (issue 11), so
-the comparison shows that the rework changed no result.
+The records' history (first made before the single-engine rework, re-recorded for the
+intended changes of issues 12 and 13) is in ``tests/test_golden.py``.
 """
 
 COMMANDS = (
