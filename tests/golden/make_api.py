@@ -21,8 +21,13 @@ from pirchain.analysis.power_up import power_up  # noqa: E402
 from pirchain.errors import ValidityWarning  # noqa: E402
 from pirchain.interface.demo import demo_design, demo_detector, demo_environment  # noqa: E402
 from pirchain.physics.disturbance import AmbientRamp, HvacCycle  # noqa: E402
-from pirchain.physics.scene import Path, adult, child, minor_motion_arm  # noqa: E402
-from pirchain.physics.scene import walks_from_paths  # noqa: E402
+from pirchain.physics.scene import (  # noqa: E402
+    Path,
+    adult,
+    child,
+    minor_motion_arm,
+    walks_from_paths,  # noqa: E402
+)
 from pirchain.settings import AnalysisSettings  # noqa: E402
 
 
