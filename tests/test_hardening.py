@@ -71,8 +71,21 @@ def one_line_exit_2(argv):
         ("seed = 1\n", "seed = 1.5\n", "analysis.seed"),
         ("trials = 4", "trials = 0", "analysis.trials"),
         ('target = "adult"', "target = 3", "scene.target"),
+        ("air_c = 21.0\n", "air_c = 21.0\ndetector_c = 400\n", "scene.detector_c"),
+        ('c1_leakage = "200M"', 'c1_leakage = "-1M"', "c1_leakage"),
+        ('r_tempco = "100u"', "r_tempco = 1", "r_tempco"),
+        ('gate_leakage = "0.5p"', "gate_leakage = 1", "gate_leakage"),
+        ("e_n_corner = 20\n", "e_n_corner = 1e300\n", "e_n_corner"),
+        ('offset = "1m"', "offset = 5", "opamp.offset"),
+        ("[analysis]", "[ambient]\nramp_rates = [[1, [2]]]\n[analysis]", "ambient.ramp_rates"),
+        ("[analysis]", "[ambient]\nramp_rates = []\n[analysis]", "ambient.ramp_rates"),
+        ("[analysis]", "[ambient]\nhvac_cycles = true\n[analysis]", "ambient.hvac_cycles"),
+        ("[analysis]", "[ambient]\nramp_minutes = 1e9\n[analysis]", "ambient.ramp_minutes"),
+        ("[analysis]", "[ambient]\nsample_rate = 1000\nhvac_cycles = 100\n[analysis]",
+         "ambient.hvac_cycles"),
+        ("[analysis]", "[ambient]\nramp_rates = [1e400]\n[analysis]", "ambient.ramp_rates[0]"),
     ],
-)
+)  # fmt: skip
 def test_bad_design_values_give_one_line(tmp_path, old, new, field):
     assert old in DEMO_TOML, old
     path = design(tmp_path, DEMO_TOML.replace(old, new, 1))
@@ -119,6 +132,9 @@ def test_sweep_paths_must_name_a_number(path):
         ["check", "--seed", "-4"],
         ["walk", "--kind", "sideways"],
         ["range", "--bearings", "a,b"],
+        ["ambient", "--ramps", "1,100"],
+        ["ambient", "--hvac", ","],
+        ["ambient", "--hvac", "1e400"],
     ],
 )
 def test_bad_options_give_one_line(argv):

@@ -186,6 +186,9 @@ def hvac_power(detector, env, hvac: HvacCycle, t) -> np.ndarray:
     return (hvac.fraction_plus * a + hvac.fraction_minus * b) * hvac.temperature(t)
 
 
+MAX_CASE_SAMPLES = 1e6  # per ambient case (a run's memory; the kept figure is decimated)
+
+
 def _values(field: str, values, low: float, high: float, unit: str) -> tuple[float, ...]:
     values = tuple(values)
     if not 1 <= len(values) <= 50:
@@ -239,10 +242,17 @@ class AmbientCases:
         check_range("ambient.hvac_cycles", self.hvac_cycles, 1, 100)
         check_range("ambient.sample_rate", self.sample_rate, 1.0, 1000.0, "Hz")
         self.hvac(1.0)  # checks the cycle's own fields
-        seconds = max(self.ramp_minutes * 60.0, self.hvac_cycles * self.hvac_period)
-        n = seconds * self.sample_rate * (len(rates) + len(amps))
-        if n > 1e9:
-            raise DesignError("ambient", f"{n:.3g} samples", "at most 1e9 samples in all")
+        # bound each case's run (its waveform is simulated whole, then decimated)
+        for field, seconds in (
+            ("ambient.ramp_minutes", self.ramp_minutes * 60.0 + 65.0),
+            ("ambient.hvac_cycles", self.hvac_cycles * self.hvac_period),
+        ):
+            n = seconds * self.sample_rate
+            if n > MAX_CASE_SAMPLES:
+                raise DesignError(
+                    f"{field} × sample_rate", f"{n:.3g} samples",
+                    f"at most {MAX_CASE_SAMPLES:.0e} samples per case",
+                )  # fmt: skip
 
     def ramps(self) -> list[AmbientRamp]:
         """The ramp cases."""
