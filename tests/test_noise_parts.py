@@ -22,7 +22,7 @@ import pytest
 from scipy import constants, optimize, signal
 
 from pirchain.analysis.ambient import ambient_study
-from pirchain.analysis.sweep import set_path
+from pirchain.analysis.sweep import check_sweep_path, set_path
 from pirchain.circuit.follower import Jfet, SourceFollower
 from pirchain.circuit.netlist import ngspice_noise, run_ngspice
 from pirchain.circuit.noise import NoiseSource, noise_sources, sensor_sources, total_psd
@@ -210,3 +210,12 @@ def test_ambient_cases_count_turn_ons_and_margins():
     assert big.margin < 0 and big.pulses >= cases.hvac_cycles and big.turn_ons == 0
     assert study.worst is big
     assert study.cases[1].pulses == 0 and study.cases[1].margin > 0
+
+
+def test_parts_temperature_is_a_sweep_path():
+    base = demo_design()
+    assert check_sweep_path(base, "detector_c") == pytest.approx(21.0)  # unset: the room's
+    hot = set_path(base, "detector_c", 50.0)
+    # hotter parts: the leakage lifts the gate (more drain current), C1 leaks more
+    assert hot.operating.supply_budget().total > base.operating.supply_budget().total
+    assert hot.environment == base.environment

@@ -56,6 +56,8 @@ def check_sweep_path(design, path: str) -> float | str:
     value = get_path(design, path)
     if path == "target":
         return value.name
+    if path == "detector_c" and value is None:  # unset: the parts are at the room's air
+        return design.parts_k - 273.15
     if isinstance(value, bool) or not isinstance(value, (int, float)):
         raise DesignError(
             "sweep.path", path, f"a numeric parameter (this is a {type(value).__name__})"
