@@ -191,6 +191,8 @@ def cmd_check(args):
         "window_v": [lo, hi],
         "rest_levels_v": det.rest_levels(),
         "supply_a": det.supply_budget().total,
+        "parts_c": det.temperature - 273.15,
+        "gate_bias_v": det.follower.gate_bias,
     }
     text = "\n".join(
         [
@@ -199,6 +201,8 @@ def cmd_check(args):
             "stages: " + ", ".join(data["stages"]),
             f"window: {lo:.4f} to {hi:.4f} V",
             f"supply: {data['supply_a'] * 1e6:.2f} µA",
+            f"parts at {data['parts_c']:.4g} °C: gate lifted {data['gate_bias_v'] * 1e3:.3g} mV"
+            " by the JFET's leakage",
         ]
     )
     _emit(args, data, text)

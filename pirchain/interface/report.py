@@ -266,6 +266,7 @@ def render(design, data: dict) -> str:
         "<h2>Chain response</h2>",
         _img(fig["bode"], "Bode plot"),
         "<h2>Noise budget</h2>",
+        f"<p>At the comparator input, the parts at {det.temperature - 273.15:.4g} °C.</p>",
         _img(fig["noise"], "noise spectra"),
         _pre(num["noise_table"]),
         f"<p>Sensor-referred noise 0.4–10 Hz: {num['sensor_noise_pp_v'] * 1e6:.1f} µV p-p "
@@ -321,6 +322,11 @@ def render(design, data: dict) -> str:
         "<li>False-trigger counting uses a Poisson approximation (clusters not modelled); "
         "the draught parameters are illustrative unless measured.</li>",
         "<li>Walk-test speeds of EN 50131-2-2 are from memory; lighting walk per NEMA WD 7.</li>",
+        "<li>Part values are those at 25 °C, moved to the parts' temperature by the laws of "
+        "docs/model.md §15 (pyroelectric coefficient, leakage, offsets, stated temperature "
+        "coefficients); a change of temperature during a run moves the room (ramps), not the "
+        "parts. Noise has its 1/f corners; popcorn noise and supply transients are not "
+        "modelled.</li>",
         "</ul>",
         f"<h2>Cautions</h2><p class='caution'>{_esc(CAUTIONS)}</p>",
         "</body></html>",
