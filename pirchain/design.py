@@ -24,6 +24,7 @@ from .physics.scene import (
     target_preset,
 )
 from .settings import WALK_SPEED_RANGE, AnalysisSettings
+from .signoff import Acceptance, Tolerance
 
 
 @dataclass(frozen=True)
@@ -46,6 +47,10 @@ class Design:
     analysis : AnalysisSettings
     ambient : AmbientCases
         The room-temperature ramps and HVAC cycles the design is judged on.
+    tolerances : tuple of Tolerance
+        The spread of its parts across built units (none: exact values).
+    acceptance : Acceptance or None
+        The lines every built unit must pass.
     detector_c : float or None
         Temperature of the detector's parts [°C] (None: the room's air temperature). A
         detector under a sunlit ceiling or just brought in from a cold van is not at the
@@ -61,6 +66,8 @@ class Design:
     analysis: AnalysisSettings = field(default_factory=AnalysisSettings)
     detector_c: float | None = None
     ambient: AmbientCases = field(default_factory=AmbientCases)
+    tolerances: tuple[Tolerance, ...] = ()
+    acceptance: Acceptance | None = None
 
     def __post_init__(self):
         if isinstance(self.target, str):
@@ -68,6 +75,7 @@ class Design:
         check_range("scene.speed", self.speed, *WALK_SPEED_RANGE, "m/s (a person's speed)")
         if self.lux is not None:
             check_nonnegative("scene.lux", self.lux, "lux")
+        object.__setattr__(self, "tolerances", tuple(self.tolerances))
         if self.detector_c is not None:
             check_range("scene.detector_c", self.detector_c, -55.0, 125.0, "°C")
         self.operating  # noqa: B018 - a temperature the parts cannot take is refused here

@@ -26,9 +26,14 @@ ALLOWED = {
     "logic": {"errors"},
     "kernels": {"physics", "circuit", "logic"},
     "chain": {"errors", "units", "physics", "circuit", "logic", "kernels"},
-    "design": {"errors", "settings", "physics", "chain"},
+    "signoff": {"errors"},
+    "design": {"errors", "settings", "signoff", "physics", "chain"},
     "analysis": {"errors", "units", "settings", "physics", "circuit", "logic", "chain", "design"},
-    "interface": set("errors units settings physics circuit logic chain design analysis".split())
+    "production": set("errors units settings signoff physics circuit logic chain design".split())
+    | {"analysis"},
+    "interface": set(
+        "errors units settings signoff physics circuit logic chain design analysis production".split()
+    )
     | {"__init__"},
     "__init__": {"errors"},
 }

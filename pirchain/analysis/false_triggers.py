@@ -33,6 +33,7 @@ from ..physics.disturbance import Draught, draught_parts, draught_transfer
 from .rice import clustered_alarm_rate, poisson_interval, spectral_moment, upcrossing_rate
 
 HOUR, DAY, YEAR = 3600.0, 86400.0, 365.25 * 86400.0
+DRAUGHT_SOURCE = "HVAC draught"  # the name of the draught's noise source
 
 
 def comparator_sources(detector, env, draught: Draught | None = None) -> list[NoiseSource]:
@@ -44,7 +45,7 @@ def comparator_sources(detector, env, draught: Draught | None = None) -> list[No
         if level > 0:
             src.append(
                 NoiseSource(
-                    "HVAC draught", level, draught_transfer(detector, draught), electrical=False
+                    DRAUGHT_SOURCE, level, draught_transfer(detector, draught), electrical=False
                 )
             )
     return src

@@ -19,6 +19,7 @@ import numpy as np
 from ..errors import DesignError, ValidityWarning, check_range, warnings_once
 from ..settings import MC_HOURS, WALK_SPEED_RANGE, check_work
 from ..units import parse_celsius, parse_quantity
+from . import cli_production
 from .cautions import CAUTIONS
 from .output import Progress, check_output, free_name, terminal_text, to_json, write_new
 
@@ -34,6 +35,7 @@ COMMANDS = {
     "ambient": "room-temperature ramps and HVAC cycling: triggers, margins, worst case",
     "netlist": "export the analog chain as a SPICE netlist",
     "report": "the full self-contained HTML report",
+    **cli_production.COMMANDS,
 }
 
 
@@ -130,6 +132,7 @@ def build_parser() -> argparse.ArgumentParser:
         help="HTML file (default: pirchain-report.html, never overwritten)",
     )
     sp.add_argument("--force", action="store_true", help="replace an existing file")
+    cli_production.add_parsers(add)
     return p
 
 
@@ -528,6 +531,10 @@ HANDLERS = {
     "ambient": cmd_ambient,
     "netlist": cmd_netlist,
     "report": cmd_report,
+    "yield": lambda a: cli_production.cmd_yield(a, _design(a), lambda d, t: _emit(a, d, t)),
+    "choose-values": lambda a: cli_production.cmd_choose_values(
+        a, _design(a), lambda d, t: _emit(a, d, t)
+    ),
 }
 
 

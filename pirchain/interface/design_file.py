@@ -30,9 +30,11 @@ from ..physics.disturbance import AmbientCases, Draught
 from ..physics.optics import Facet, Lens, LensRing, LensTier, Mount, ceiling_lens, wall_lens
 from ..physics.scene import Environment
 from ..physics.sensor import PyroSensor, dual_elements, quad_elements
+from ..production.tolerances import expand
 from ..settings import AnalysisSettings
+from ..signoff import GROUPS, Acceptance, Tolerance
 from ..units import parse_celsius, parse_quantity
-from .design_schema import REQ, SCHEMA, default
+from .design_schema import REQ, SCHEMA, default, unit_of
 
 
 def _read(data, schema: dict, path: str) -> dict:
@@ -92,6 +94,10 @@ def _value(v, kind, arg, where):
         return v
     if kind == "vref":
         return v if v == "reference" else parse_quantity(v, where, "V")
+    if kind == "tol":  # "1%" or a value in the unit of the path it applies to
+        if isinstance(v, bool) or not isinstance(v, (str, int, float)):
+            raise DesignError(where, v, "a percentage such as '1%' or a value")
+        return v
     if kind == "section":
         return _read(v, arg, where)
     if kind == "tables":
@@ -284,6 +290,30 @@ def _comparator(c, supply):
     return _build("comparator", lambda: WindowComparator(win, c["hysteresis"]))
 
 
+def _tolerance(i: int, c: dict) -> Tolerance:
+    where = f"tolerances[{i}]"
+    v = c["tolerance"]
+    if isinstance(v, str) and v.strip().endswith("%"):
+        rel, amount = True, parse_quantity(v.strip()[:-1], f"{where}.tolerance") / 100.0
+    else:
+        unit = None if c["path"] in GROUPS else unit_of(c["path"])
+        rel, amount = False, parse_quantity(v, f"{where}.tolerance", unit)
+    return _build(
+        where,
+        lambda: Tolerance(c["path"], amount, rel, c["distribution"], c["sigmas"],
+                          c["random_sign"]),
+    )  # fmt: skip
+
+
+def _acceptance(c):
+    if c is None:
+        return None
+    c = dict(c)
+    for key in ("bearings", "speeds"):
+        c[key] = tuple(_quantities(f"acceptance.{key}", c[key]))
+    return _build("acceptance", lambda: Acceptance(**c))
+
+
 def design_from_dict(data: dict) -> Design:
     """Build a :class:`Design` from parsed TOML data (raises :class:`DesignError`)."""
     c = _read(data, SCHEMA, "")
@@ -345,7 +375,9 @@ def design_from_dict(data: dict) -> Design:
     for key in ("ramp_rates", "hvac_amplitudes"):
         amb[key] = tuple(_quantities(f"ambient.{key}", amb[key]))
     ambient = _build("ambient", lambda: AmbientCases(**amb))
-    return _build(
+    tolerances = tuple(_tolerance(i, t) for i, t in enumerate(c["tolerances"] or ()))
+    acceptance = _acceptance(c["acceptance"])
+    design = _build(
         "scene",
         lambda: Design(
             det,
@@ -357,8 +389,12 @@ def design_from_dict(data: dict) -> Design:
             settings,
             sc["detector_c"],
             ambient,
-        ),  # fmt: skip
+            tolerances,
+            acceptance,
+        ),
     )
+    expand(design)  # every tolerance names values of this design (or a one-line error)
+    return design
 
 
 MAX_FILE_BYTES = 1 << 20  # a design file is a few kB; 1 MiB is far more than any needs

@@ -26,6 +26,7 @@ from ..physics.optics import Facet, Lens, LensRing, LensTier, Mount, wall_lens
 from ..physics.scene import DEFAULT_TARGET, TARGET_PRESETS, Environment
 from ..physics.sensor import MATERIALS, PyroSensor, dual_elements
 from ..settings import AnalysisSettings
+from ..signoff import DISTRIBUTIONS, Acceptance, Tolerance
 
 REQ = object()  # marks a required key
 
@@ -119,6 +120,13 @@ STAGE = {
     "v_ref": ("vref", None, None),  # none: the stage type's usual reference
     "clamp": ("bool", None, True),
     "opamp": ("section", OPAMP, None),
+}
+TOLERANCE = {
+    "path": ("str", None, REQ),  # a dotted path ([*] for every stage) or a group
+    "tolerance": ("tol", None, REQ),  # "1%" or a value in the unit of the path
+    "distribution": _choice(DISTRIBUTIONS, From(Tolerance)),
+    "sigmas": _q(None, From(Tolerance)),
+    "random_sign": ("bool", None, From(Tolerance)),
 }
 _MATERIAL = PyroSensor.from_material
 _DATASHEET = PyroSensor.from_datasheet
@@ -304,6 +312,30 @@ SCHEMA = {
         ),  # fmt: skip
         {},
     ),
+    "tolerances": ("tables", TOLERANCE, None),
+    "acceptance": (
+        "section",
+        {
+            **_fields(
+                Acceptance,
+                {
+                    "range_m": "m",
+                    "level": None,
+                    "seated_m": "m",
+                    "false_triggers_per_year": None,
+                    "warm_up_s": "s",
+                    "supply_a": "A",
+                },
+                {
+                    "bearings": ("list", None),
+                    "speeds": ("list", None),
+                    "kind": ("choice", ("tangential", "radial")),
+                    "trials": ("int", None),
+                },
+            ),
+        },
+        None,
+    ),  # fmt: skip
     "analysis": (
         "section",
         _fields(
