@@ -31,10 +31,8 @@ ALLOWED = {
     "analysis": {"errors", "units", "settings", "physics", "circuit", "logic", "chain", "design"},
     "production": set("errors units settings signoff physics circuit logic chain design".split())
     | {"analysis"},
-    "interface": set(
-        "errors units settings signoff physics circuit logic chain design analysis production".split()
-    )
-    | {"__init__"},
+    "interface": set("errors units settings signoff physics circuit logic chain design".split())
+    | {"analysis", "production", "__init__"},
     "__init__": {"errors"},
 }
 STAGE_CLASSES = {

@@ -143,6 +143,7 @@ def test_the_value_search_finds_the_known_best():
 
 def test_local_dask_cluster_gives_byte_identical_json():
     import distributed
+
     from pirchain.production.runners import DaskCluster
 
     d = demo_design()
