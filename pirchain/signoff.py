@@ -8,7 +8,6 @@ and ``[acceptance]`` section read into them. May import only :mod:`pirchain.erro
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 from .errors import DesignError, check_choice, check_range
@@ -52,12 +51,9 @@ class Tolerance:
     def __post_init__(self):
         if not isinstance(self.path, str) or not self.path:
             raise DesignError("tolerances.path", self.path, "a dotted path or a group name")
-        high = 1.0 if self.relative else math.inf
+        # a relative spread below 100 % (the value keeps its sign), except a lognormal one
+        high = 100.0 if self.distribution == "lognormal" else 0.999 if self.relative else 1e30
         check_range(f"tolerances[{self.path}].tolerance", self.tolerance, 0.0, high)
-        if self.relative and self.distribution != "lognormal" and self.tolerance >= 1.0:
-            raise DesignError(
-                f"tolerances[{self.path}].tolerance", self.tolerance, "below 100 %"
-            )  # fmt: skip
         check_choice(f"tolerances[{self.path}].distribution", self.distribution, DISTRIBUTIONS)
         check_range(f"tolerances[{self.path}].sigmas", self.sigmas, 0.5, 10.0)
         if self.distribution == "lognormal" and not self.relative:
@@ -93,6 +89,8 @@ class Acceptance:
         Warm-up (settling after power-up) at most [s].
     supply_a : float or None
         Supply current at most [A].
+    units : int
+        Units the report draws for its yield section.
     """
 
     range_m: float | None = None
@@ -105,6 +103,7 @@ class Acceptance:
     false_triggers_per_year: float | None = None
     warm_up_s: float | None = None
     supply_a: float | None = None
+    units: int = 100
 
     def __post_init__(self):
         for key in ("bearings", "speeds"):
@@ -121,6 +120,9 @@ class Acceptance:
         if isinstance(self.trials, bool) or not isinstance(self.trials, int):
             raise DesignError("acceptance.trials", self.trials, "an integer")
         check_range("acceptance.trials", self.trials, 1, 1000)
+        if isinstance(self.units, bool) or not isinstance(self.units, int):
+            raise DesignError("acceptance.units", self.units, "an integer")
+        check_range("acceptance.units", self.units, 1, 100_000)
         if self.range_m is not None:
             check_range("acceptance.range_m", self.range_m, 0.3, 200.0, "m")
         if self.seated_m is not None:

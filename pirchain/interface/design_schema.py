@@ -331,6 +331,7 @@ SCHEMA = {
                     "speeds": ("list", None),
                     "kind": ("choice", ("tangential", "radial")),
                     "trials": ("int", None),
+                    "units": ("int", None),
                 },
             ),
         },

@@ -1,5 +1,6 @@
 """Standard-value selection: the IEC 60063 values of chosen parts that give the best yield,
-or the longest worst-case range at a yield of at least a target.
+or the longest worst-case range at a yield of at least a target with 95 % confidence (the
+lower end of the yield's interval at or above the target).
 
 Every candidate (a combination of series values, one per chosen part) runs on the same drawn
 units (the chosen parts' own tolerances are applied around each candidate's value), in
@@ -18,6 +19,7 @@ References
 
 from __future__ import annotations
 
+import dataclasses
 import itertools
 import math
 from dataclasses import dataclass
@@ -79,7 +81,7 @@ class Choice:
     @property
     def best(self) -> Candidate | None:
         top = self.ranked[0] if self.ranked else None
-        if top is None or (self.objective == "range" and top.yield_fraction < self.target_yield):
+        if top is None or (self.objective == "range" and top.interval[0] < self.target_yield):
             return None
         return top
 
@@ -155,8 +157,8 @@ def worst_case_range(design) -> float:
 def choose_values(design, parts, units=200, objective="yield", target_yield=0.9, seed=None,
                   runner=None, progress=None) -> Choice:  # fmt: skip
     """Search the series values of ``parts`` (sequence of :class:`Part`) for the best yield
-    (``objective="yield"``) or the longest worst-case range at a yield of at least
-    ``target_yield`` (``objective="range"``)."""
+    (``objective="yield"``) or the longest worst-case range among candidates whose yield
+    interval lies at or above ``target_yield`` (``objective="range"``)."""
     if design.acceptance is None:
         raise DesignError("acceptance", None, "an [acceptance] section to judge units by")
     if objective not in ("yield", "range"):
@@ -202,9 +204,11 @@ def choose_values(design, parts, units=200, objective="yield", target_yield=0.9,
     for k, cand in enumerate(cands):
         n, ok = len(results[k]), sum(results[k])
         rng = math.nan
-        if objective == "range" and k in alive and ok / n >= target_yield:
+        c = Candidate(cand, n, ok, exact, dropped.get(k), rng)
+        if objective == "range" and k in alive and c.interval[0] >= target_yield:
             rng = worst_case_range(with_values(design, [p.path for p in parts], cand))
-        out.append(Candidate(cand, n, ok, exact, dropped.get(k), rng))
+            c = dataclasses.replace(c, range_m=rng)
+        out.append(c)
     if objective == "yield":
         key = lambda c: (-c.interval[0], -c.yield_fraction, -c.units, c.values)  # noqa: E731
     else:

@@ -21,6 +21,7 @@ from dataclasses import dataclass
 import numpy as np
 from scipy import stats
 
+from ..analysis.detection_range import probability_of_detection
 from ..errors import DesignError
 from .acceptance import evaluate_unit
 from .runners import InProcess
@@ -206,3 +207,38 @@ def run_yield(design, units: int = 200, seed: int | None = None, runner=None, pr
         np.array([r[2] for r in flat], dtype=float).reshape(units, -1),
         tuple(r[3] for r in flat), seed,
     )  # fmt: skip
+
+
+def critical_line(design) -> tuple[float, float]:
+    """(bearing, speed) of the acceptance whose nominal noise-free range is shortest."""
+    acc = design.acceptance
+    best, line = np.inf, (acc.bearings[0], acc.speeds[0])
+    for b in acc.bearings:
+        for v in acc.speeds:
+            r = _grid_range(design, b, v)
+            if r < best:
+                best, line = r, (b, v)
+    return line
+
+
+def _grid_range(design, bearing, speed, step=0.5) -> float:
+    acc, a = design.acceptance, design.analysis
+    grid = np.arange(a.d_min, a.d_max + 1e-9, step)
+    p = probability_of_detection(
+        design.operating, design.target, design.environment, grid, bearing, speed, acc.kind,
+        acc.trials, a.seed, False, sample_rate=a.sample_rate,
+    )  # fmt: skip
+    ok = np.flatnonzero(p >= acc.level)
+    return float(grid[ok[-1]]) if ok.size else 0.0
+
+
+def unit_ranges(design, paths, rows, line) -> list[float]:
+    """Noise-free range (0.5 m grid) of each unit at ``line`` = (bearing, speed) [m] (a
+    task, like :func:`evaluate_units`)."""
+    out = []
+    for row in rows:
+        try:
+            out.append(_grid_range(with_values(design, paths, row), *line))
+        except DesignError:
+            out.append(math.nan)
+    return out
