@@ -65,8 +65,12 @@ def main() -> None:
             print(f"  {len(b) * len(s)} range lines, {n // 4} units: {1e3 * t / (n // 4):.1f} "
                   "ms/unit")  # fmt: skip
     local.close()
+    import dask
     from distributed import Client, LocalCluster
 
+    # the workers' statistical profiler samples every task's stack (for the dashboard); a
+    # compute-bound run does not need it (set the same on a real cluster's workers)
+    dask.config.set({"distributed.worker.profile.enabled": False})
     with (
         LocalCluster(n_workers=args.processes, threads_per_worker=1, processes=True,
                      dashboard_address=None) as cluster,

@@ -172,7 +172,7 @@ class YieldResult:
 
 
 def run_yield(design, units: int = 200, seed: int | None = None, runner=None, progress=None,
-              batch: int = 10) -> YieldResult:  # fmt: skip
+              batch: int | None = None) -> YieldResult:  # fmt: skip
     """Draw ``units`` units of ``design`` (its tolerances) and judge each on its acceptance
     lines.
 
@@ -186,8 +186,9 @@ def run_yield(design, units: int = 200, seed: int | None = None, runner=None, pr
         design's seed for every unit (common random numbers).
     runner : InProcess, LocalProcesses or DaskCluster, optional
         Where the units run (default: in this process); the result is the same.
-    batch : int
-        Units per task.
+    batch : int, optional
+        Units per task (default: up to 25, at least eight tasks when there are units for
+        them; the answer does not depend on it).
     """
     if design.acceptance is None:
         raise DesignError("acceptance", None, "an [acceptance] section to judge units by")
@@ -197,6 +198,7 @@ def run_yield(design, units: int = 200, seed: int | None = None, runner=None, pr
     spreads = expand(design)
     paths = tuple(s.path for s in spreads)
     values = draw(spreads, units, seed)
+    batch = min(25, max(1, units // 8)) if batch is None else int(batch)
     tasks = [(design, paths, values[i : i + batch]) for i in range(0, units, batch)]
     results = (runner or InProcess()).map(evaluate_units, tasks, progress)
     flat = [r for chunk in results for r in chunk]
