@@ -156,7 +156,9 @@ def test_local_dask_cluster_gives_byte_identical_json():
         distributed.Client(cluster) as client,
     ):  # fmt: skip
         there = run_yield(d, 12, seed=7, runner=DaskCluster(client=client), batch=3)
+        again = run_yield(d, 12, seed=7, client=client)  # the client= form, default batches
     assert json.dumps(there.to_dict(), sort_keys=True) == here
+    assert json.dumps(again.to_dict(), sort_keys=True) == here
 
 
 def test_yield_command_and_its_errors(tmp_path, capsys):

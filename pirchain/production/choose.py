@@ -30,7 +30,7 @@ from ..analysis.detection_range import detection_range
 from ..errors import DesignError
 from ..settings import AnalysisSettings
 from .eseries import values_between
-from .runners import InProcess
+from .runners import DaskCluster, InProcess
 from .tolerances import draw, expand, with_values
 from .yields import clopper_pearson, evaluate_units
 
@@ -155,10 +155,11 @@ def worst_case_range(design) -> float:
 
 
 def choose_values(design, parts, units=200, objective="yield", target_yield=0.9, seed=None,
-                  runner=None, progress=None) -> Choice:  # fmt: skip
+                  runner=None, progress=None, client=None) -> Choice:  # fmt: skip
     """Search the series values of ``parts`` (sequence of :class:`Part`) for the best yield
     (``objective="yield"``) or the longest worst-case range among candidates whose yield
-    interval lies at or above ``target_yield`` (``objective="range"``)."""
+    interval lies at or above ``target_yield`` (``objective="range"``); ``runner`` or a
+    Dask ``client`` says where the units run."""
     if design.acceptance is None:
         raise DesignError("acceptance", None, "an [acceptance] section to judge units by")
     if objective not in ("yield", "range"):
@@ -178,7 +179,7 @@ def choose_values(design, parts, units=200, objective="yield", target_yield=0.9,
     values = draw(spreads, units, seed)
     paths = [s.path for s in spreads] + [p.path for p in parts
                                           if p.path not in {s.path for s in spreads}]  # fmt: skip
-    runner = runner or InProcess()
+    runner = DaskCluster(client=client) if client is not None else runner or InProcess()
     results: dict[int, list] = {k: [] for k in range(len(cands))}
     alive, dropped = set(range(len(cands))), {}
     done, size = 0, 25

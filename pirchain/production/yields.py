@@ -24,7 +24,7 @@ from scipy import stats
 from ..analysis.detection_range import probability_of_detection
 from ..errors import DesignError
 from .acceptance import evaluate_unit
-from .runners import InProcess
+from .runners import DaskCluster, InProcess
 from .tolerances import draw, expand, with_values
 
 MAX_UNITS = 100_000
@@ -172,7 +172,7 @@ class YieldResult:
 
 
 def run_yield(design, units: int = 200, seed: int | None = None, runner=None, progress=None,
-              batch: int | None = None) -> YieldResult:  # fmt: skip
+              batch: int | None = None, client=None) -> YieldResult:  # fmt: skip
     """Draw ``units`` units of ``design`` (its tolerances) and judge each on its acceptance
     lines.
 
@@ -189,6 +189,8 @@ def run_yield(design, units: int = 200, seed: int | None = None, runner=None, pr
     batch : int, optional
         Units per task (default: up to 25, at least eight tasks when there are units for
         them; the answer does not depend on it).
+    client : distributed.Client, optional
+        Run on this Dask cluster (instead of ``runner``).
     """
     if design.acceptance is None:
         raise DesignError("acceptance", None, "an [acceptance] section to judge units by")
@@ -200,6 +202,8 @@ def run_yield(design, units: int = 200, seed: int | None = None, runner=None, pr
     values = draw(spreads, units, seed)
     batch = min(25, max(1, units // 8)) if batch is None else int(batch)
     tasks = [(design, paths, values[i : i + batch]) for i in range(0, units, batch)]
+    if client is not None:
+        runner = DaskCluster(client=client)
     results = (runner or InProcess()).map(evaluate_units, tasks, progress)
     flat = [r for chunk in results for r in chunk]
     return YieldResult(
