@@ -26,6 +26,7 @@ References
 
 from __future__ import annotations
 
+import functools
 import math
 
 import numpy as np
@@ -39,6 +40,11 @@ def tf_sos(transfer, sample_rate: float) -> np.ndarray:
     z, p, k = signal.tf2zpk(num, den)
     zd, pd, kd = signal.bilinear_zpk(z, p, k, sample_rate)
     return signal.zpk2sos(zd, pd, kd)
+
+
+@functools.lru_cache(maxsize=16)
+def _half_order_cached(sample_rate, f_lo, f_hi, per_decade, f_ref, sign) -> np.ndarray:
+    return half_order_sos(sample_rate, f_lo, f_hi, per_decade, f_ref, sign)
 
 
 def half_order_sos(
@@ -169,7 +175,9 @@ class NoiseSynthesizer:
         for src in sources:
             sos = tf_sos(src.transfer, self.fs)
             if src.slope:  # after the transfer sections: better-conditioned states
-                sos = np.vstack([sos, half_order_sos(self.fs, sign=src.slope)])
+                # a function of the sample rate only: computed once per rate (read-only copy)
+                half = _half_order_cached(self.fs, 1e-3, 0.45 * self.fs, 3, 1.0, src.slope)
+                sos = np.vstack([sos, half])
             scale = math.sqrt(src.level * self.fs / 2.0)
             zi = stationary_states(sos, scale, self.streams, self.rng) if stationary else None
             self.warm_up_needed |= zi is None
