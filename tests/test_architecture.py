@@ -31,8 +31,10 @@ ALLOWED = {
     "analysis": {"errors", "units", "settings", "physics", "circuit", "logic", "chain", "design"},
     "production": set("errors units settings signoff physics circuit logic chain design".split())
     | {"analysis"},
+    "calibration": set("errors units settings signoff physics circuit logic chain design".split())
+    | {"analysis"},
     "interface": set("errors units settings signoff physics circuit logic chain design".split())
-    | {"analysis", "production", "__init__"},
+    | {"analysis", "production", "calibration", "__init__"},
     "__init__": {"errors"},
 }
 STAGE_CLASSES = {
