@@ -74,7 +74,10 @@ class NoiseSource:
         """PSD at the comparator input [V² Hz⁻¹]."""
         f = np.asarray(f, dtype=float)
         h = np.abs(self.transfer(2j * math.pi * f)) ** 2
-        return self.level * h * (f**self.slope if self.slope else 1.0)
+        if not self.slope:
+            return self.level * h
+        with np.errstate(divide="ignore"):  # a 1/f density is infinite at f = 0, as it is
+            return self.level * h * f**self.slope
 
 
 def amplifier_sources(tag: str, amp, voltage_path, current_path=None) -> list[NoiseSource]:
