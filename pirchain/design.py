@@ -24,7 +24,7 @@ from .physics.scene import (
     target_preset,
 )
 from .settings import WALK_SPEED_RANGE, AnalysisSettings
-from .signoff import Acceptance, Tolerance
+from .signoff import Acceptance, CalibrationRecord, Tolerance
 
 
 @dataclass(frozen=True)
@@ -55,6 +55,9 @@ class Design:
         Temperature of the detector's parts [°C] (None: the room's air temperature). A
         detector under a sunlit ceiling or just brought in from a cold van is not at the
         room's temperature.
+    calibration : CalibrationRecord or None
+        What the design was fitted to on the bench (None: not calibrated); the fitted values
+        themselves are in the detector and the draught.
     """
 
     detector: Detector
@@ -68,6 +71,7 @@ class Design:
     ambient: AmbientCases = field(default_factory=AmbientCases)
     tolerances: tuple[Tolerance, ...] = ()
     acceptance: Acceptance | None = None
+    calibration: CalibrationRecord | None = None
 
     def __post_init__(self):
         if isinstance(self.target, str):

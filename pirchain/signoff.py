@@ -150,3 +150,40 @@ class Acceptance:
             if getattr(self, key) is not None:
                 out.append(name)
         return tuple(out)
+
+
+@dataclass(frozen=True)
+class CalibrationRecord:
+    """What a calibrated design was fitted to (written by ``pirchain bench-fit``).
+
+    Attributes
+    ----------
+    signal_scale : float
+        Multiplier of the sensor's current responsivity the fits found (it stands for the
+        product responsivity × lens transmission × the target's contrast, which one walk
+        cannot tell apart).
+    white_noise_scale, flicker_noise_scale : float
+        Multipliers of the electrical noise densities (applied by the detector's
+        :class:`pirchain.circuit.noise.NoiseScale`).
+    fitted_from : tuple of str
+        The data each fit used, one line each.
+    fitted_on : str
+        When (ISO date).
+    summary : tuple of str
+        The fitted values with their 95 % intervals, one line each.
+    """
+
+    signal_scale: float = 1.0
+    white_noise_scale: float = 1.0
+    flicker_noise_scale: float = 1.0
+    fitted_from: tuple[str, ...] = ()
+    fitted_on: str = ""
+    summary: tuple[str, ...] = ()
+
+    def __post_init__(self):
+        check_range("calibration.signal_scale", self.signal_scale, 1e-3, 1e3)
+        for name in ("fitted_from", "summary"):
+            v = getattr(self, name)
+            if not all(isinstance(x, str) and len(x) < 400 for x in v):
+                raise DesignError(f"calibration.{name}", v, "a list of short text lines")
+            object.__setattr__(self, name, tuple(v))

@@ -33,7 +33,9 @@ from ..errors import DesignError
 @dataclass(frozen=True)
 class Component:
     """One spectrum shape: ``kind`` "white" (flat), "flicker" (1/f), "lorentzian"
-    (1/(1 + (2πfτ)²), τ fitted), or "shape" (``values`` given on the Welch grid)."""
+    (1/(1 + (2πfτ)²), τ fitted; times ``values`` if given, a transfer |H(f)|² on the Welch
+    grid), "draught" (``values`` · τ/(1 + (2πfτ)²): the level is then a variance), or "shape"
+    (``values`` given on the Welch grid)."""
 
     name: str
     kind: str
@@ -44,9 +46,12 @@ class Component:
             return np.ones_like(f)
         if self.kind == "flicker":
             return 1.0 / f
+        weight = 1.0 if self.values is None else np.asarray(self.values, dtype=float)
         if self.kind == "lorentzian":
-            return 1.0 / (1.0 + (2 * math.pi * f * tau) ** 2)
-        return np.asarray(self.values, dtype=float)
+            return weight / (1.0 + (2 * math.pi * f * tau) ** 2)
+        if self.kind == "draught":
+            return weight * tau / (1.0 + (2 * math.pi * f * tau) ** 2)
+        return weight
 
 
 def welch_psd(x: np.ndarray, fs: float, segment: float) -> tuple[np.ndarray, np.ndarray, int]:
@@ -72,6 +77,28 @@ class SpectrumFit:
     chi2_per_bin: float
 
 
+def _start(f, target, comps, tau0, has_tau):
+    """Start values: for each τ of a grid (or ``tau0`` alone), non-negative levels by
+    least squares on relative errors (NNLS, Lawson & Hanson 1974), the τ whose levels fit
+    the log-spectrum best; a level NNLS sets to zero starts at 10⁻⁶ of the best level."""
+    p = np.exp(target)
+    taus = np.geomspace(1e-2, 1e3, 31) if has_tau else np.array([tau0])
+    best = None
+    for tau in taus:
+        a = np.stack([c.shape(f, tau) / p for c in comps], axis=1)
+        levels, _ = optimize.nnls(a, np.ones(f.size))
+        if not np.any(levels > 0):
+            continue
+        levels = np.maximum(levels, 1e-6 * levels.max())
+        cost = float(np.sum((target - np.log(a @ levels * p)) ** 2))
+        if best is None or cost < best[0]:
+            best = (cost, levels, tau)
+    if best is None:
+        raise DesignError("spectrum", "no fit", "a spectrum the components can describe")
+    _, levels, tau = best
+    return np.log(np.concatenate([levels, [tau] if has_tau else []]))
+
+
 def fit_spectrum(f, p, segments, components, band=None, tau0: float = 1.0) -> SpectrumFit:
     """Fit the levels of ``components`` to the Welch estimate ``p`` on ``f`` (``segments``
     averaged) within ``band`` = (f_lo, f_hi) [Hz]."""
@@ -83,13 +110,13 @@ def fit_spectrum(f, p, segments, components, band=None, tau0: float = 1.0) -> Sp
     # Hann-windowed neighbouring bins are correlated; every second bin is nearly independent
     idx = np.flatnonzero(sel)[::2]
     f, lp = f[idx], np.log(p[idx])
-    comps = [c if c.kind != "shape" else Component(c.name, c.kind, np.asarray(c.values)[idx])
+    comps = [c if c.values is None else Component(c.name, c.kind, np.asarray(c.values)[idx])
              for c in components]  # fmt: skip
     # 50 %-overlapping Hann segments are correlated too: K/(1 + 2c²) equivalent segments,
     # c = 0.167 (Percival & Walden §6.17)
     k = max(1, int(segments / (1 + 2 * 0.167**2)))
     bias, sd = special.digamma(k) - math.log(k), math.sqrt(special.polygamma(1, k))
-    has_tau = any(c.kind == "lorentzian" for c in comps)
+    has_tau = any(c.kind in ("lorentzian", "draught") for c in comps)
 
     def model(th):
         tau = math.exp(th[-1]) if has_tau else 1.0
@@ -98,11 +125,11 @@ def fit_spectrum(f, p, segments, components, band=None, tau0: float = 1.0) -> Sp
     def resid(th):
         return (lp - bias - np.log(model(th))) / sd
 
-    start = [math.log(max(np.median(np.exp(lp) / c.shape(f, tau0)), 1e-300))
-             - math.log(len(comps))
-             for c in comps]  # fmt: skip
-    th0 = np.array(start + ([math.log(tau0)] if has_tau else []))
-    res = optimize.least_squares(resid, th0, x_scale="jac")
+    th0 = _start(f, lp - bias, comps, tau0, has_tau)
+    lo = np.concatenate([th0[: len(comps)] - 25.0, [math.log(1e-2)] if has_tau else []])
+    hi = np.concatenate([th0[: len(comps)] + 25.0, [math.log(1e3)] if has_tau else []])
+    th0 = np.clip(th0, lo + 1e-9, hi - 1e-9)
+    res = optimize.least_squares(resid, th0, bounds=(lo, hi), x_scale="jac")
     try:
         cov = np.linalg.inv(res.jac.T @ res.jac)
     except np.linalg.LinAlgError:
@@ -110,5 +137,6 @@ def fit_spectrum(f, p, segments, components, band=None, tau0: float = 1.0) -> Sp
     s = np.sqrt(np.clip(np.diag(cov), 0.0, None))
     z = stats.norm.ppf(0.975)
     names = tuple(c.name for c in comps) + (("tau",) if has_tau else ())
-    return SpectrumFit(names, np.exp(res.x), np.exp(res.x - z * s), np.exp(res.x + z * s),
+    lo_i, hi_i = np.clip(res.x - z * s, -700, 700), np.clip(res.x + z * s, -700, 700)
+    return SpectrumFit(names, np.exp(res.x), np.exp(lo_i), np.exp(hi_i),
                        float(res.fun @ res.fun / max(lp.size - th0.size, 1)))  # fmt: skip

@@ -16,6 +16,7 @@ import numpy as np
 
 from ..circuit.comparator import WindowComparator
 from ..circuit.follower import SourceFollower
+from ..circuit.noise import NoiseScale
 from ..circuit.stage import chain_transfer_function
 from ..circuit.supply import PowerSupply, SupplyBudget, supply_budget
 from ..errors import DesignError, check_range, warn_validity
@@ -50,6 +51,9 @@ class Detector:
         :class:`pirchain.design.Design` does, at its room's or its stated temperature).
     nominal : Detector or None
         The 25 °C design this one was moved from (None: this one is).
+    noise_scale : NoiseScale
+        Multipliers of the electrical noise densities fitted to a bench recording (1, 1:
+        the parts' own figures).
 
     Notes
     -----
@@ -67,6 +71,7 @@ class Detector:
     name: str = "detector"
     temperature: float = REFERENCE_K
     nominal: Detector | None = field(default=None, compare=False, repr=False)
+    noise_scale: NoiseScale = field(default_factory=NoiseScale)
 
     def __post_init__(self):
         object.__setattr__(self, "stages", tuple(self.stages))

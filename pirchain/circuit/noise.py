@@ -30,6 +30,7 @@ import control
 import numpy as np
 from scipy import constants
 
+from ..errors import DesignError
 from .stage import chain_transfer_function
 
 K_B = constants.k
@@ -78,6 +79,31 @@ class NoiseSource:
             return self.level * h
         with np.errstate(divide="ignore"):  # a 1/f density is infinite at f = 0, as it is
             return self.level * h * f**self.slope
+
+
+@dataclass(frozen=True)
+class NoiseScale:
+    """Multipliers of the detector's noise densities, fitted to a quiet-room recording
+    (:mod:`pirchain.calibration.quiet`): ``flicker`` for the 1/f sources, ``white`` for every
+    other source of the detector (white, and the dielectric loss rising as f); a draught is
+    not the detector's and is fitted on its own. 1 and 1: the parts' own figures."""
+
+    white: float = 1.0
+    flicker: float = 1.0
+
+    def __post_init__(self):
+        for name in ("white", "flicker"):
+            v = getattr(self, name)
+            if not (isinstance(v, (int, float)) and 1e-6 <= v <= 1e6):
+                raise DesignError(f"calibration.{name}_noise_scale", v,
+                                  "a multiplier between 1e-6 and 1e6")  # fmt: skip
+
+    def applied(self, src: NoiseSource) -> NoiseSource:
+        """``src`` with its level scaled."""
+        k = self.flicker if src.slope == -1 else self.white
+        if k == 1.0:
+            return src
+        return NoiseSource(src.name, src.level * k, src.transfer, src.slope, src.electrical)
 
 
 def amplifier_sources(tag: str, amp, voltage_path, current_path=None) -> list[NoiseSource]:
@@ -149,7 +175,7 @@ def noise_sources(detector, temperature: float | None = None) -> list[NoiseSourc
     for k, st in enumerate(stages, start=1):
         downstream = chain_transfer_function(stages[k:], gbw=True)
         out += st.noise_sources(k, temperature, downstream)
-    return out
+    return [detector.noise_scale.applied(src) for src in out]
 
 
 def sensor_sources(detector, temperature: float | None = None) -> list[NoiseSource]:
@@ -159,7 +185,7 @@ def sensor_sources(detector, temperature: float | None = None) -> list[NoiseSour
     if detector.follower is not None:
         one = control.tf([1.0], [1.0])
         out[2:2] = detector.follower.noise_sources(temperature, z_gate, one, one, False)
-    return out
+    return [detector.noise_scale.applied(src) for src in out]
 
 
 def band_grid(f_lo: float = 1e-3, f_hi: float = 1e3, n: int = 4000) -> np.ndarray:

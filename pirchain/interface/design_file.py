@@ -20,6 +20,7 @@ import tomllib
 from ..chain.detector import Detector
 from ..circuit.comparator import FixedWindow, LadderWindow, MappedWindow, WindowComparator
 from ..circuit.follower import Jfet, SourceFollower
+from ..circuit.noise import NoiseScale
 from ..circuit.opamp import OpAmp, white_density
 from ..circuit.stages import STAGE_TYPES
 from ..circuit.supply import PowerSupply
@@ -32,7 +33,7 @@ from ..physics.scene import Environment
 from ..physics.sensor import PyroSensor, dual_elements, quad_elements
 from ..production.tolerances import expand
 from ..settings import AnalysisSettings
-from ..signoff import GROUPS, Acceptance, Tolerance
+from ..signoff import GROUPS, Acceptance, CalibrationRecord, Tolerance
 from ..units import parse_celsius, parse_quantity
 from .design_schema import REQ, SCHEMA, default, unit_of
 
@@ -314,6 +315,12 @@ def _acceptance(c):
     return _build("acceptance", lambda: Acceptance(**c))
 
 
+def _calibration(c):
+    if c is None:
+        return None
+    return _build("calibration", lambda: CalibrationRecord(**c))
+
+
 def design_from_dict(data: dict) -> Design:
     """Build a :class:`Design` from parsed TOML data (raises :class:`DesignError`)."""
     c = _read(data, SCHEMA, "")
@@ -348,12 +355,20 @@ def design_from_dict(data: dict) -> Design:
     mount = _build("mount", lambda: Mount(**c["mount"]))
     lens, sensor = _lens(c["lens"]), _sensor(c["sensor"])
     comparator = _comparator(c["comparator"], supply)
+    cal = _calibration(c["calibration"])
+    if cal is not None:  # the fitted signal scale multiplies the 25 °C responsivity
+        sensor = dataclasses.replace(
+            sensor, current_responsivity=sensor.current_responsivity * cal.signal_scale
+        )
+    scale = _build("calibration", lambda: NoiseScale(
+        *((cal.white_noise_scale, cal.flicker_noise_scale) if cal else (1.0, 1.0))))  # fmt: skip
     det = _build(
         "supply",
         lambda: Detector(
-            lens, mount, sensor, follower, stages, comparator, logic, supply, c["design"]["name"]
+            lens, mount, sensor, follower, stages, comparator, logic, supply,
+            c["design"]["name"], noise_scale=scale,
         ),
-    )
+    )  # fmt: skip
     sc = c["scene"]
     env = _build(
         "scene",
@@ -391,6 +406,7 @@ def design_from_dict(data: dict) -> Design:
             ambient,
             tolerances,
             acceptance,
+            cal,
         ),
     )
     expand(design)  # every tolerance names values of this design (or a one-line error)
@@ -435,6 +451,11 @@ def loads(text: str) -> Design:
 
 def load(path) -> Design:
     """Load a design file: a regular file of at most 1 MiB of UTF-8 TOML."""
+    return loads(read_text(path))
+
+
+def read_text(path) -> str:
+    """The text of a design file (a regular file of at most 1 MiB of UTF-8)."""
     try:
         with open(path, "rb") as fh:
             st = os.fstat(fh.fileno())
@@ -448,7 +469,6 @@ def load(path) -> Design:
     if len(raw) > MAX_FILE_BYTES:
         raise DesignError("file", str(path), "a design file of at most 1 MiB")
     try:
-        text = raw.decode("utf-8")
+        return raw.decode("utf-8")
     except UnicodeDecodeError:
         raise DesignError("file", str(path), "UTF-8 text") from None
-    return loads(text)

@@ -26,7 +26,7 @@ from ..physics.optics import Facet, Lens, LensRing, LensTier, Mount, wall_lens
 from ..physics.scene import DEFAULT_TARGET, TARGET_PRESETS, Environment
 from ..physics.sensor import MATERIALS, PyroSensor, dual_elements
 from ..settings import AnalysisSettings
-from ..signoff import DISTRIBUTIONS, Acceptance, Tolerance
+from ..signoff import DISTRIBUTIONS, Acceptance, CalibrationRecord, Tolerance
 
 REQ = object()  # marks a required key
 
@@ -332,6 +332,21 @@ SCHEMA = {
                     "kind": ("choice", ("tangential", "radial")),
                     "trials": ("int", None),
                     "units": ("int", None),
+                },
+            ),
+        },
+        None,
+    ),  # fmt: skip
+    "calibration": (
+        "section",
+        {
+            **_fields(
+                CalibrationRecord,
+                {"signal_scale": None, "white_noise_scale": None, "flicker_noise_scale": None},
+                {
+                    "fitted_from": ("list", None),
+                    "fitted_on": ("str", None),
+                    "summary": ("list", None),
                 },
             ),
         },
