@@ -9,8 +9,10 @@ time offset and a DC offset at the node. The model walk is the one the capture w
 (a tangential walk at a distance, bearing and speed); each evaluation runs it through the
 whole chain. ``scipy.optimize.least_squares`` (trust-region reflective, bounds) fits; the
 95 % intervals come from the covariance s² (JᵀJ)⁻¹ at the optimum with s² the residual
-variance (the usual linearised intervals; Bates & Watts 1988, §2.3), and the correlation
-matrix is reported beside them.
+variance (the usual linearised intervals; Bates & Watts 1988, §2.3), widened by the
+residual's integrated autocorrelation time when the capture's noise is coloured (a real
+chain's noise is band-limited; white residuals leave it at 1), and the correlation matrix
+is reported beside them.
 
 References
 ----------
@@ -110,6 +112,62 @@ class WaveformFit:
             "converged": self.success,
         }  # fmt: skip
 
+    def table(self, capture) -> str:
+        """The fit as text."""
+        return _table(self, capture)
+
+
+def correlation_inflation(residual: np.ndarray) -> float:
+    """1 + 2 Σ ρ_k over the residual's autocorrelation up to its first non-positive lag:
+    the factor by which correlated (coloured) noise widens least-squares variances when the
+    model varies slowly against the noise (the integrated autocorrelation time; Priestley,
+    *Spectral Analysis and Time Series*, 1981, §5.3). 1 for white residuals."""
+    r = residual - residual.mean()
+    n = r.size
+    spec = np.fft.rfft(r, 2 * n)
+    acf = np.fft.irfft(spec * np.conj(spec))[:n]
+    if acf[0] <= 0:
+        return 1.0
+    rho = acf[1 : n // 4] / acf[0]
+    stop = np.flatnonzero(rho <= 0)
+    rho = rho[: stop[0]] if stop.size else rho
+    return float(max(1.0, 1.0 + 2.0 * rho.sum()))
+
+
+_LABELS = {
+    "gain": ("", "signal gain (responsivity × lens × contrast)"),
+    "thermal_time_constant": ("s", "thermal time constant τ_T"),
+    "electrical_time_constant": ("s", "electrical time constant τ_E"),
+    "time_offset": ("s", "walk time offset"),
+    "offset": ("V", "DC offset at the node"),
+}
+
+
+def _table(fit, capture) -> str:
+    lines = [
+        f"Walk capture {capture.source} at {capture.node}: {capture.time.size} samples at "
+        f"{capture.sample_rate:.4g} Hz; residual rms {fit.residual_rms * 1e3:.3g} mV"
+        + ("" if fit.success else " (the fit did not converge)")
+    ]
+    for k, name in enumerate(fit.names):
+        unit, what = _LABELS[name]
+        lines.append(
+            f"  {what:44s} {fit.values[k]:10.4g} {unit:2s} (95 %: {fit.low[k]:.4g}"
+            f" … {fit.high[k]:.4g})"
+        )
+    big = [
+        (fit.names[i], fit.names[j], fit.correlation[i, j])
+        for i in range(len(fit.names))
+        for j in range(i)
+        if abs(fit.correlation[i, j]) > 0.9
+    ]
+    for a, b, r in big:
+        lines.append(
+            f"  {a} and {b} are strongly correlated ({r:+.2f}): the data tell mainly"
+            " their combination"
+        )
+    return "\n".join(lines)
+
 
 def fit_waveform(design, capture, walk: WalkSpec) -> WaveformFit:
     """Fit ``capture`` (:class:`pirchain.interface.capture_file.Capture`) taken on ``walk``."""
@@ -132,8 +190,9 @@ def fit_waveform(design, capture, walk: WalkSpec) -> WaveformFit:
                                  diff_step=1e-4)  # fmt: skip
     dof = max(t.size - res.x.size, 1)
     s2 = float(res.fun @ res.fun) / dof
+    inflation = correlation_inflation(res.fun)
     try:
-        cov = np.linalg.inv(res.jac.T @ res.jac) * s2
+        cov = np.linalg.inv(res.jac.T @ res.jac) * s2 * inflation
     except np.linalg.LinAlgError:
         cov = np.full((res.x.size, res.x.size), np.nan)
     sd = np.sqrt(np.clip(np.diag(cov), 0.0, None))

@@ -11,6 +11,7 @@ fitted / model-at-that-temperature.
 from __future__ import annotations
 
 import datetime
+import math
 
 import tomlkit
 
@@ -26,6 +27,26 @@ def _section(doc, name: str):
     if name not in doc:
         doc[name] = tomlkit.table()
     return doc[name]
+
+
+def _sd_log(low: float, high: float) -> float:
+    return (math.log(high) - math.log(low)) / (2 * 1.959964)
+
+
+def _walk_share(walks, waveform) -> float:
+    """The walk tests' correction of the signal scale. Alone, their fitted scale; after a
+    waveform fit (which they were judged on), the two estimates of one scale are combined
+    by inverse-variance weights in ln s, so a precise capture is not undone by a few
+    dozen yes/no walks and the calibrated file still reproduces the fitted waveform
+    closely; open-ended walk-test intervals add nothing."""
+    if waveform is None:
+        return walks.scale
+    if walks.open_ended:
+        return 1.0
+    k = list(waveform.names).index("gain")
+    var_g = _sd_log(waveform.low[k], waveform.high[k]) ** 2
+    var_w = _sd_log(walks.low, walks.high) ** 2
+    return math.exp(math.log(walks.scale) * var_g / (var_g + var_w))
 
 
 def calibrated_text(
@@ -49,7 +70,8 @@ def calibrated_text(
     quiet : QuietFit, optional
         Sets the noise scales and the draught's rms and correlation time.
     walks : WalkTestFit, optional
-        Multiplies the signal scale by the fitted sensitivity scale.
+        Multiplies the signal scale by the fitted sensitivity scale (combined with a
+        waveform fit's gain by inverse-variance weights, :func:`_walk_share`).
     """
     doc = tomlkit.parse(text)
     op = design.operating.sensor
@@ -104,7 +126,7 @@ def calibrated_text(
             for n, x, a, b in zip(sp.names, sp.values, sp.low, sp.high, strict=True)
         ]
     if walks is not None:
-        signal *= walks.scale
+        signal *= _walk_share(walks, waveform)
         sources.append(f"walk tests: {walks_source}")
         summary.append(
             f"walk-test scale {walks.scale:.4g} (95 %: {walks.low:.4g} to {walks.high:.4g})"

@@ -32,6 +32,11 @@ NODES = ("gate", "source", "comparator") + tuple(f"stage{k}" for k in range(1, 9
 _DELIMITED = re.compile(r"[,;\t]")
 
 
+def _refused(path: str, expected: str) -> DesignError:
+    """An error naming the whole file (a long path is not shortened like a value)."""
+    return DesignError("capture", path, expected, f"capture {path}: expected {expected}")
+
+
 def _number(text: str) -> bool:
     try:
         float(text)
@@ -93,11 +98,11 @@ def _open_regular(path: str) -> int:
     try:
         st = os.stat(path)
     except OSError as err:
-        raise DesignError("capture", path, f"a readable file ({err.strerror})") from None
+        raise _refused(path, f"a readable file ({err.strerror})") from None
     if not stat.S_ISREG(st.st_mode):
-        raise DesignError("capture", path, "a regular file (not a device, pipe or folder)")
+        raise _refused(path, "a regular file (not a device, pipe or folder)")
     if st.st_size > MAX_BYTES:
-        raise DesignError("capture", path, f"a capture of at most {MAX_BYTES >> 20} MiB")
+        raise _refused(path, f"a capture of at most {MAX_BYTES >> 20} MiB")
     return st.st_size
 
 
@@ -109,12 +114,12 @@ def _read_npy(path: str) -> np.ndarray:
                     else np.lib.format.read_array_header_2_0)  # fmt: skip
             shape, _order, dtype = read(fh)
         except (ValueError, OSError) as err:
-            raise DesignError("capture", path, f"a .npy file ({err})") from None
+            raise _refused(path, f"a .npy file ({err})") from None
     count = int(np.prod(shape, dtype=np.float64)) if shape else 1
     if count > 2 * MAX_SAMPLES:
-        raise DesignError("capture", path, f"at most {MAX_SAMPLES} samples (header: {shape})")
+        raise _refused(path, f"at most {MAX_SAMPLES} samples (header: {shape})")
     if dtype.kind not in "fiu" or len(shape) != 2 or shape[1] < 2:
-        raise DesignError("capture", path, "a 2-D numeric array with time and value columns")
+        raise _refused(path, "a 2-D numeric array with time and value columns")
     data = np.load(path, allow_pickle=False)
     return np.asarray(data[:, :2], dtype=float)
 
@@ -157,7 +162,7 @@ def _read_csv(path: str) -> tuple[np.ndarray, tuple[str, str], list[int]]:
             rows.append(vals)
             lines.append(n)
             if len(rows) > MAX_SAMPLES:
-                raise DesignError("capture", path, f"at most {MAX_SAMPLES} samples")
+                raise _refused(path, f"at most {MAX_SAMPLES} samples")
     return np.array(rows, dtype=float).reshape(-1, 2), header, lines
 
 

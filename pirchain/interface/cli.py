@@ -19,7 +19,7 @@ import numpy as np
 from ..errors import DesignError, ValidityWarning, check_range, warnings_once
 from ..settings import MC_HOURS, WALK_SPEED_RANGE, check_work
 from ..units import parse_celsius, parse_quantity
-from . import cli_production
+from . import cli_calibration, cli_production
 from .cautions import CAUTIONS
 from .output import Progress, check_output, free_name, terminal_text, to_json, write_new
 
@@ -36,6 +36,7 @@ COMMANDS = {
     "netlist": "export the analog chain as a SPICE netlist",
     "report": "the full self-contained HTML report",
     **cli_production.COMMANDS,
+    **cli_calibration.COMMANDS,
 }
 
 
@@ -133,6 +134,7 @@ def build_parser() -> argparse.ArgumentParser:
     )
     sp.add_argument("--force", action="store_true", help="replace an existing file")
     cli_production.add_parsers(add)
+    cli_calibration.add_parsers(add)
     return p
 
 
@@ -144,6 +146,13 @@ def _design(args):
     if args.seed is not None:
         d = _with_setting(d, "seed", args.seed)
     return d
+
+
+def _design_text(args) -> str:
+    from .demo_text import DEMO_TOML
+    from .design_file import read_text
+
+    return DEMO_TOML if getattr(args, "design", None) is None else read_text(args.design)
 
 
 def _outputs(args, *options) -> None:
@@ -534,6 +543,9 @@ HANDLERS = {
     "yield": lambda a: cli_production.cmd_yield(a, _design(a), lambda d, t: _emit(a, d, t)),
     "choose-values": lambda a: cli_production.cmd_choose_values(
         a, _design(a), lambda d, t: _emit(a, d, t)
+    ),
+    "bench-fit": lambda a: cli_calibration.cmd_bench_fit(
+        a, _design(a), _design_text(a), lambda d, t: _emit(a, d, t)
     ),
 }
 

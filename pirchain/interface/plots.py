@@ -242,3 +242,37 @@ def ambient_case(study):
                        f"{c.margin * 1e3:.0f} mV ({c.margin_sigma:.1f} σ of noise)"))  # fmt: skip
     ax.legend(loc="upper right", fontsize=8)
     return fig
+
+
+def bench_fit(capture=None, waveform=None, quiet=None, walks=None):
+    """Measured against fitted: the walk capture and the fitted waveform, the quiet
+    recording's Welch PSD and the fitted model, and every walk-test row's P(detect)."""
+    panels = [p for p in ("wave", "psd", "walks") if {"wave": waveform, "psd": quiet,
+                                                      "walks": walks}[p] is not None]  # fmt: skip
+    fig, axes = plt.subplots(len(panels), 1, figsize=(7, 3.0 * len(panels)), squeeze=False)
+    for ax, kind in zip(axes[:, 0], panels, strict=True):
+        if kind == "wave":
+            ax.plot(capture.time, capture.value, lw=0.8, color="0.55", label="measured")
+            ax.plot(capture.time, waveform.fitted, lw=1.3, color="C0", label="fitted model")
+            ax.set_xlabel("time [s]")
+            ax.set_ylabel(f"{capture.node} [V]")
+            ax.set_title(f"Walk capture: residual rms {waveform.residual_rms * 1e3:.3g} mV")
+        elif kind == "psd":
+            ok = quiet.f > 0
+            ax.loglog(quiet.f[ok], quiet.psd[ok], lw=0.6, color="0.55", label="Welch estimate")
+            ax.loglog(quiet.f[ok], quiet.model_psd[ok], lw=1.5, color="C1", label="fitted model")
+            ax.set_xlabel("frequency [Hz]")
+            ax.set_ylabel("[V²/Hz]")
+            ax.set_title("Quiet room at the comparator input")
+        else:
+            y = np.array([r.detected for r in walks.rows], dtype=float)
+            d = np.array([r.distance for r in walks.rows])
+            ax.scatter(d, y, marker="|", s=200, color="0.3", label="walked (1 detected)")
+            ax.scatter(d, walks.p_fitted, s=14, color="C2", label="fitted P(detect)")
+            ax.scatter(d, walks.p_design, s=10, color="C3", marker="x", label="design P(detect)")
+            ax.set_xlabel("distance [m]")
+            ax.set_ylabel("P(detect)")
+            ax.set_title(f"Walk tests: sensitivity scale {walks.scale:.3g}")
+        ax.legend(fontsize=7)
+    fig.tight_layout()
+    return fig

@@ -28,7 +28,7 @@ from ..circuit.schematic import schematic_svg
 from ..errors import ValidityWarning, warnings_once
 from ..physics.scene import tangential_path, walks_from_paths
 from ..units import format_eng
-from . import plots, report_signoff
+from . import plots, report_calibration, report_signoff
 from .cautions import CAUTIONS
 from .design_schema import unit_of
 from .output import terminal_text
@@ -173,6 +173,9 @@ def compute(design, progress=None) -> dict:
     num["ambient_worst"] = study.worst.label
     num["ambient_worst_turn_ons"] = study.worst.turn_ons
     num["ambient_worst_margin_sigma"] = study.worst.margin_sigma
+    out["calibration"] = report_calibration.compute(design)
+    if out["calibration"] is not None:
+        num["calibrated_from"] = out["calibration"]["fitted_from"]
     out["signoff"] = report_signoff.compute(design)
     if out["signoff"] is not None:
         num["signoff_yield"] = out["signoff"]["yield"]["yield"]
@@ -313,6 +316,7 @@ def render(design, data: dict) -> str:
         f"{num['ambient_worst_margin_sigma']:.1f} σ left.</p>",
         _img(fig["ambient"], "worst ambient case"),
         _pre(num["ambient_table"]),
+        *report_calibration.html(data.get("calibration"), _esc, _pre),
         *report_signoff.html(design, data.get("signoff"), _esc, _pre, _img, plots.png_bytes),
         "<h2>Power-up and supply</h2>",
         _img(fig["power_up"], "power-up"),
