@@ -23,8 +23,8 @@ at most one bisection step (≤ 0.56 m radial, ≤ 0.28 m tangential).
 
 Comparison: strings, booleans and integers exactly; floating-point numbers within a
 relative 1e-9 (rounding differences of reordered sums, orders above 1e-16 and far below any
-physical effect); waveforms within 1e-9 of each column's largest magnitude plus one unit in the ninth printed
-digit.
+physical effect); waveforms within 1e-9 of each column's largest magnitude plus one unit in
+the ninth printed digit.
 """
 
 import contextlib

@@ -153,7 +153,9 @@ def _then(src: NoiseSource, after) -> NoiseSource:
     return NoiseSource(src.name, src.level, src.transfer * after, src.slope, src.electrical)
 
 
-def noise_sources(detector, temperature: float | None = None) -> list[NoiseSource]:
+def noise_sources(
+    detector, temperature: float | None = None, upto: int | None = None
+) -> list[NoiseSource]:
     """Every noise source of ``detector`` referred to its comparator input.
 
     Parameters
@@ -163,10 +165,14 @@ def noise_sources(detector, temperature: float | None = None) -> list[NoiseSourc
     temperature : float, optional
         Temperature of the parts [K] (default: the detector's own,
         :attr:`pirchain.chain.detector.Detector.temperature`).
+    upto : int, optional
+        Refer them to the output of stage ``upto`` instead (0: the follower's source), with
+        the stages after it left out.
     """
     detector.require_analog()
     temperature = detector.temperature if temperature is None else temperature
-    fol, stages = detector.follower, detector.stages
+    fol = detector.follower
+    stages = detector.stages if upto is None else detector.stages[:upto]
     after_source = chain_transfer_function(stages, gbw=True)
     after_gate = fol.gain * after_source
     gate, z_gate = _gate_parts(detector, temperature)

@@ -65,8 +65,9 @@ def calibrated_text(
     Parameters
     ----------
     waveform : WaveformFit, optional
-        Sets the sensor's thermal time constant and its gate resistor (or electrical time
-        constant) and multiplies the signal scale by the fitted gain.
+        Sets the sensor's thermal time constant, its gate resistor (or electrical time
+        constant) and its element mismatch, and multiplies the signal scale by the fitted
+        gain.
     quiet : QuietFit, optional
         Sets the noise scales and the draught's rms and correlation time.
     walks : WalkTestFit, optional
@@ -102,6 +103,8 @@ def calibrated_text(
                 format_eng(base.electrical_time_constant * ratio),
                 f"fitted: {waveform_source}",
             )
+        if "mismatch" in v:
+            _put(sensor, "mismatch", float(f"{v['mismatch']:.4g}"), f"fitted: {waveform_source}")
         signal *= v["gain"]
         sources.append(f"waveform: {waveform_source}")
         summary += [f"{n} {v[n]:.4g} (95 %: {lo[n]:.4g} to {hi[n]:.4g})" for n in waveform.names]

@@ -5,6 +5,7 @@ file. Registered by :mod:`pirchain.interface.cli`."""
 from __future__ import annotations
 
 from ..errors import DesignError
+from ..physics.scene import TARGET_PRESETS
 from ..units import parse_quantity
 from .capture_file import NODES, read_capture
 from .output import check_output, write_new
@@ -33,6 +34,10 @@ def add_parsers(add) -> None:
     sp.add_argument("--bearing", default="0", help="walk bearing [°]")
     sp.add_argument("--speed", default=None, help="walk speed [m/s] (default: the design's)")
     sp.add_argument("--cross-time", default="5", help="when the walk crosses the axis [s]")
+    sp.add_argument("--direction", choices=("ccw", "cw"), default="ccw",
+                    help="seen from above: ccw walks towards increasing bearing")  # fmt: skip
+    sp.add_argument("--target", choices=TARGET_PRESETS, default=None,
+                    help="who walked (default: the design's target)")  # fmt: skip
     sp.add_argument("--quiet", help="quiet-room recording at the comparator input")
     sp.add_argument("--quiet-scale", default="1", help="multiplier of its value column")
     sp.add_argument("--walk-results", help="walk-test sheet (CSV)")
@@ -68,6 +73,7 @@ def cmd_bench_fit(args, design, design_text, emit):
             _number(dist, "--distance", "m"), _number(args.bearing, "--bearing"),
             _number(design.speed if args.speed is None else args.speed, "--speed", "m/s"),
             _number(args.cross_time, "--cross-time", "s"),
+            1 if args.direction == "ccw" else -1, args.target or "",
         )  # fmt: skip
         wf = fit_waveform(design, cap, walk)
         data["waveform"] = {**wf.to_dict(), "capture": args.capture,
