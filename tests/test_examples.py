@@ -3,6 +3,7 @@ outside relations: the Shockley square law (Sedra & Smith), the RC corner 1/(2π
 (Horowitz & Hill), the ladder divider (Ohm's law), and the stated Poisson counting
 approximation (factor 3, see tests/test_false_triggers.py)."""
 
+import json
 import math
 import os
 import re
@@ -109,3 +110,47 @@ def test_ceiling_hvac_false_triggers():
     lo, hi = (float(x) for x in v["mc_interval_per_day"])
     assert int(v["mc_turn_ons"][0]) > 50
     assert lo / 3 < analytic < 3 * hi
+
+
+def test_bench_calibration_worked_example(tmp_path):
+    # the invented bench data of examples/bench_calibration (made by the model with seeded
+    # noise, a 500 Hz scope in mV with a -2 s start, quantisation and a DC level): the fit
+    # must find the hidden truth the generator states. Each fitted value within 1.5 × its
+    # own 95 % half-width of the truth (about 3 σ: a single draw may fall just outside a
+    # 95 % interval; the coverage over seeds is tests/test_calibration.py's)
+    proc = subprocess.run(
+        [sys.executable, os.path.join(ROOT, "examples", "bench_calibration", "make_bench_data.py"),
+         str(tmp_path)], capture_output=True, text=True, check=False, timeout=600,
+    )  # fmt: skip
+    assert proc.returncode == 0, proc.stderr
+    cal = tmp_path / "calibrated.toml"
+    proc = subprocess.run(
+        [sys.executable, "-m", "pirchain.interface.entry", "bench-fit",
+         "--capture", str(tmp_path / "walk.csv"), "--node", "comparator", "--scale", "1m",
+         "--distance", "14", "--quiet", str(tmp_path / "quiet.csv"),
+         "--walk-results", str(tmp_path / "walks.csv"), "--write", str(cal), "--json"],
+        capture_output=True, text=True, check=False, timeout=600,
+        env=dict(os.environ, MPLBACKEND="Agg"),
+    )  # fmt: skip
+    assert proc.returncode == 0, proc.stderr
+    out = json.loads(proc.stdout)
+
+    def near(entry, truth):
+        half = (entry["high_95"] - entry["low_95"]) / 2
+        return abs(entry["value"] - truth) <= 1.5 * half
+
+    wave = out["waveform"]["parameters"]
+    # the generator's truth: gain 0.8, τ_T 420 ms, the demo file's mismatch 0.05
+    assert near(wave["gain"], 0.8) and near(wave["thermal_time_constant"], 0.42)
+    assert near(wave["mismatch"], 0.05)
+    assert near(wave["offset"], 0.004)  # the channel's DC level
+    quiet = out["quiet"]["parameters"]  # white × 1.5, draught 14 mK rms with τ = 3 s
+    assert near(quiet["white"], 1.5) and near(quiet["draught"], 0.014**2)
+    assert near(quiet["tau"], 3.0)
+    walks = out["walk_tests"]  # judged on the waveform-calibrated design: 0.8 / 0.8 ≈ 1
+    assert walks["scale_low_95"] <= 1.0 / wave["gain"]["value"] * 0.8 <= walks["scale_high_95"]
+    text = cal.read_text(encoding="utf-8")
+    assert "fitted: " in text and "[calibration]" in text
+    proc = subprocess.run([sys.executable, "-m", "pirchain.interface.entry", "check", str(cal)],
+                          capture_output=True, text=True, check=False, timeout=600)  # fmt: skip
+    assert proc.returncode == 0, proc.stderr

@@ -210,19 +210,22 @@ class QuietFit:
             lines.append(f"  {n:8s} {v:10.4g}  (95 %: {lo:.4g} … {hi:.4g})  {what}")
         for n in self.not_fitted:
             lines.append(f"  {n:8s} not fitted: too small in this band to tell apart (kept)")
-        lines.append("  crossings per hour      counted (95 %)          Rice    Monte Carlo")
+        lines.append(
+            "  crossings per hour   on the recording (95 %, count)            Rice  Monte Carlo"
+        )
         for r in self.crossings:
             lo, hi = (x * 3600 for x in r.counted_interval)
+            rate = r.counted / self.duration * 3600
             lines.append(
-                f"  {r.label:14s} {r.counted:6d} ({lo:7.3g} … {hi:7.3g})  {r.rice * 3600:9.3g}"
-                f"  {r.monte_carlo * 3600:9.3g}"
+                f"  {r.label:14s} {rate:9.3g} ({lo:7.3g} … {hi:7.3g}, {r.counted:6d})"
+                f"  {r.rice * 3600:9.3g}  {r.monte_carlo * 3600:9.3g}"
             )
         hi = self.alarm_counted_interval[1] * YEAR
         lines.append(
             f"  output turn-ons: {self.alarms_counted} on the recording (95 % upper bound "
             f"{format_rate(hi)}); fitted model: Rice {format_rate(self.alarm_rice * YEAR)},"
             f" Monte Carlo {self.alarm_monte_carlo * YEAR:.3g} per year "
-            f"({self.monte_carlo_duration / 86400:.3g} days simulated)"
+            f"({self.monte_carlo_duration / 86400:.3g} d simulated)"
         )
         return "\n".join(lines)
 

@@ -4,6 +4,8 @@ file. Registered by :mod:`pirchain.interface.cli`."""
 
 from __future__ import annotations
 
+from dataclasses import asdict
+
 from ..errors import DesignError
 from ..physics.scene import TARGET_PRESETS
 from ..units import parse_quantity
@@ -76,7 +78,7 @@ def cmd_bench_fit(args, design, design_text, emit):
             1 if args.direction == "ccw" else -1, args.target or "",
         )  # fmt: skip
         wf = fit_waveform(design, cap, walk)
-        data["waveform"] = {**wf.to_dict(), "capture": args.capture,
+        data["waveform"] = {**wf.to_dict(), "capture": args.capture, "walk": asdict(walk),
                             "sample_rate_hz": cap.sample_rate, "time_origin_s": cap.t0}  # fmt: skip
         text.append(wf.table(cap))
     if args.quiet:
