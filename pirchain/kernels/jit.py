@@ -8,6 +8,8 @@ infinity handling, signed zeros and the order of operations stay as written).
 raising, which keeps the loops free of checks so that they vectorise.
 """
 
+import types
+
 import numba
 
 FMA = {"contract"}
@@ -21,3 +23,14 @@ def rule(func):
     The function stays written once, in its domain module, where Python code calls it too.
     """
     return numba.njit(**INLINE)(func)
+
+
+def rule_calling(func, **rules):
+    """:func:`rule` for a rule function that calls other rule functions of its module: the
+    names in ``rules`` (already compiled with :func:`rule`) replace the plain functions it
+    would otherwise call."""
+    glb = dict(func.__globals__)
+    glb.update(rules)
+    copy = types.FunctionType(func.__code__, glb, func.__name__, func.__defaults__,
+                              func.__closure__)  # fmt: skip
+    return rule(copy)
