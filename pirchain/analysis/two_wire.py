@@ -142,8 +142,10 @@ def cap_currents(switch, lamp, voltages, vrms, current_limit=None):
         lv = base.copy()
         lv[4], lv[6], lv[8] = 1e6, 1e9, 0.0  # capacitor too large to move, driver never on
         st = initial_state(sw, lamp, v_cap=v)
-        r = run_power_stage(sw, lamp, 0.0, _cycle(sw), state=st, keep=10**6,
-                            mains_voltage=vrms, lamp_vector=lv, steps_per_cycle=FAST_STEPS)  # fmt: skip
+        r = run_power_stage(
+            sw, lamp, 0.0, _cycle(sw), state=st, keep=10**6, mains_voltage=vrms,
+            lamp_vector=lv, steps_per_cycle=FAST_STEPS,
+        )  # fmt: skip
         loop[k], cap[k] = r.loop, r.bridge
     return loop, cap
 
@@ -183,8 +185,10 @@ def off_state(switch: TwoWireSwitch, lamp: Lamp, chain_draw: float) -> OffState:
     draw = chain_draw + switch.extra_draw(False)
     if lamp.kind == "resistive":
         n = SETTLE_CYCLES + STEADY_CYCLES
-        r = run_power_stage(switch, lamp, 0.0, n * _cycle(switch),
-                            stat_from=SETTLE_CYCLES * _cycle(switch), mains_voltage=mains.low)  # fmt: skip
+        r = run_power_stage(
+            switch, lamp, 0.0, n * _cycle(switch), stat_from=SETTLE_CYCLES * _cycle(switch),
+            mains_voltage=mains.low,
+        )  # fmt: skip
         return OffState(lamp.label, r.harvest, draw, r.loop, "not applicable")
     v, loop, cap, flashes = _flashes(switch, lamp, mains.low)
     c = lamp.input_capacitance

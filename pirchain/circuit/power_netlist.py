@@ -5,17 +5,17 @@ can check the stage in their own.
 The same circuit as the model: a sine mains source; the switch's bridge of four diodes; the
 off-state regulator as a behavioural current source I_lim·min(1, max(0, v/V_do)) from the
 bridge's positive node into the storage capacitor; in the on state the charging path (a
-diode and the series resistor) and the triac, a conductance set by a control that is on while the voltage across it exceeds the
-firing voltage or its current the holding current (smoothed through
-a 1 µs RC, which breaks the algebraic loop); a zener (breakdown at the
-clamp) across the storage capacitor; the chain's draw as a current source. A filament lamp
-is a resistor at its present resistance; an LED lamp a bridge, its input resistor and
-capacitor, the bleeder, and the driver as a hysteretic switch (on at the start voltage, off
-at the stop voltage) into a constant-power behavioural load. Diodes are junctions whose
-forward drop equals the model's ``diode_drop`` at the current where it matters (the model's
-drops are constant): the charging current at the firing threshold in the on state, the
-regulator's limit in the off state with 10 pF of junction capacitance and 10 mΩ of series resistance (numerical stability
-of the floating bridge),
+diode and the series resistor) and the triac, a conductance set by a control that is on
+while the voltage across it exceeds the firing voltage or its current the holding current
+(smoothed through a 1 µs RC, which breaks the algebraic loop); a zener (breakdown at the
+clamp, its knee from I_ZT and the slope) across the storage capacitor; the chain's draw as
+a current source. A filament lamp is a resistor at its present resistance; an LED lamp a
+bridge, its input resistor and capacitor, the bleeder, and the driver as a hysteretic switch
+(on at the start voltage, off at the stop voltage) into a constant-power behavioural load.
+Diodes are junctions whose forward drop equals the model's ``diode_drop`` at the current
+where it matters (the model's drops are constant): the charging current at the firing
+threshold in the on state, the regulator's limit in the off state; with 10 pF of junction
+capacitance and 10 mΩ of series resistance (numerical stability of the floating bridge),
 at 27 °C; 1 TΩ resistors give the floating nodes a DC path.
 """
 
@@ -141,9 +141,11 @@ def power_stage_netlist(
         if lamp.kind == "led":
             vecs["vcap"] = "v(cin)-v(ldn)"
         names = " ".join(vecs)
-        lines += [".control", "set wr_singlescale", "set wr_vecnames", "run",
-                  *(f"let {k} = {e}" for k, e in vecs.items()),
-                  f"linearize {names}", f"wrdata {output_file} {names}", "quit", ".endc"]  # fmt: skip
+        lines += [
+            ".control", "set wr_singlescale", "set wr_vecnames", "run",
+            *(f"let {k} = {e}" for k, e in vecs.items()),
+            f"linearize {names}", f"wrdata {output_file} {names}", "quit", ".endc",
+        ]  # fmt: skip
     lines.append(".end")
     return "\n".join(lines) + "\n"
 

@@ -5,11 +5,11 @@ Circuit (one topology, common practice for such switches; every value a design-f
 
     live ──┬── power switch (triac: fires when the voltage across it reaches
            │   ``fire_voltage`` in the on state; holds while |i| > ``holding_current``)
-           └── bridge (4 × ``diode_drop``) ─┬─ off path: current-limited regulator,
-                                            │  i = I_lim · clip((v_dc − V_s)/V_do, 0, 1)
-                                            └─ on path (on state only): diode + ``on_charge_resistance``
-                                               both into the storage capacitor C_s, clamped by a
-                                               zener at ``zener_voltage``; the chain draws from C_s
+           └── bridge (4 diodes) ─┬─ off path: current-limited regulator,
+                                  │  i = I_lim · clip((v_dc − V_s)/V_do, 0, 1)
+                                  └─ on path (on state only): diode + resistor
+                                     both into the storage capacitor C_s, clamped by a zener;
+                                     the chain draws from C_s
     ── lamp ── neutral
 
 Off, the regulator's current flows through the lamp: that is the off-state leakage the lamp
@@ -49,12 +49,16 @@ MAINS_PRESETS = {"230V50Hz": (230.0, 50.0), "120V60Hz": (120.0, 60.0)}
 LAMP_KINDS = ("resistive", "led")
 RESISTIVE, LED = 0, 1
 # layout of the flat parameter vectors the compiled stepping reads
-SWITCH_FIELDS = ("off_current_limit", "regulator_dropout", "zener_voltage",
-                 "storage_capacitance", "diode_drop", "fire_voltage", "on_charge_resistance",
-                 "holding_current", "triac_resistance", "zener_test_current", "zener_slope")  # fmt: skip
-LAMP_FIELDS = ("kind", "hot_resistance", "cold_ratio", "filament_time_constant",
-               "input_capacitance", "input_resistance", "start_voltage", "stop_voltage",
-               "bleeder_conductance", "driver_power", "bypass_conductance", "diode_drop")  # fmt: skip
+SWITCH_FIELDS = (
+    "off_current_limit", "regulator_dropout", "zener_voltage", "storage_capacitance",
+    "diode_drop", "fire_voltage", "on_charge_resistance", "holding_current",
+    "triac_resistance", "zener_test_current", "zener_slope",
+)  # fmt: skip
+LAMP_FIELDS = (
+    "kind", "hot_resistance", "cold_ratio", "filament_time_constant", "input_capacitance",
+    "input_resistance", "start_voltage", "stop_voltage", "bleeder_conductance",
+    "driver_power", "bypass_conductance", "diode_drop",
+)  # fmt: skip
 
 
 @dataclass(frozen=True)
