@@ -15,6 +15,7 @@ from dataclasses import dataclass, field
 from functools import cached_property
 
 from .chain.detector import Detector
+from .circuit.two_wire import TwoWireSupply
 from .errors import check_nonnegative, check_range
 from .physics.disturbance import AmbientCases, Draught
 from .physics.scene import (
@@ -58,6 +59,9 @@ class Design:
     calibration : CalibrationRecord or None
         What the design was fitted to on the bench (None: not calibrated); the fitted values
         themselves are in the detector and the draught.
+    two_wire : TwoWireSupply or None
+        The switch's power stage when the detector is a two-wire (no-neutral) switch that
+        powers itself through its lamp (None: powered otherwise).
     """
 
     detector: Detector
@@ -72,6 +76,7 @@ class Design:
     tolerances: tuple[Tolerance, ...] = ()
     acceptance: Acceptance | None = None
     calibration: CalibrationRecord | None = None
+    two_wire: TwoWireSupply | None = None
 
     def __post_init__(self):
         if isinstance(self.target, str):

@@ -23,12 +23,12 @@ firing), the current's harmonics (FFT of two steady cycles), whether the triac s
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
 from ..chain.power_stage import initial_state, run_power_stage
-from ..circuit.two_wire import Lamp, TwoWireSwitch
+from ..circuit.two_wire import Lamp, TwoWireSwitch, lamp_presets
 
 HARMONICS = 40
 SETTLE_CYCLES, STEADY_CYCLES = 15, 10
@@ -103,6 +103,11 @@ class OnState:
         [A].
     holds : bool
         The triac fired in every half-cycle and the lamp ran.
+    fires : int
+        Firings over the steady cycles at the nominal voltage.
+    harvest_at_need : float
+        The harvest with the storage capacitor at the lowest voltage the chain's rail allows
+        [A] (the most the on state can give before the rail falls below its minimum).
     within_rating : bool
         rms current within the switch's ``max_current``.
     cap_min : float
@@ -121,6 +126,8 @@ class OnState:
     holds: bool
     within_rating: bool
     cap_min: float = math.nan
+    fires: int = 0
+    harvest_at_need: float = math.nan
 
     @property
     def margin(self) -> float:
@@ -151,8 +158,6 @@ def cap_currents(switch, lamp, voltages, vrms, current_limit=None):
 
 
 def _with_limit(switch, limit):
-    from dataclasses import replace
-
     return replace(switch, off_current_limit=float(limit))
 
 
@@ -229,20 +234,24 @@ def _harmonics(current, steps):
     return float(np.sqrt(np.sum(h[1:] ** 2)) / h[0]), float(h[2] / h[0])
 
 
-def on_state(switch: TwoWireSwitch, lamp: Lamp, chain_draw: float) -> OnState:
-    """The on state of ``switch`` with ``lamp`` and a chain drawing ``chain_draw`` [A]."""
+def on_state(switch: TwoWireSwitch, lamp: Lamp, chain_draw: float, v_need=None) -> OnState:
+    """The on state of ``switch`` with ``lamp`` and a chain drawing ``chain_draw`` [A]; the
+    harvest is what a storage capacitor held at its zener voltage (and at ``v_need``, the
+    lowest it may fall to, default: the zener voltage) receives at the low mains limit."""
     mains = switch.mains
     cyc = _cycle(switch)
     n = SETTLE_CYCLES + STEADY_CYCLES
     peak = math.sqrt(2) * mains.voltage
+    held = replace(switch, storage_capacitance=1e3 * switch.storage_capacitance)
 
-    def run(vrms, keep):
-        st = initial_state(switch, lamp, hot=True, v_cap=0.95 * peak, running=True)
-        return run_power_stage(switch, lamp, chain_draw, n * cyc, on=(0.0, math.inf),
-                               state=st, stat_from=SETTLE_CYCLES * cyc, keep=keep,
+    def run(sw, vrms, keep, v_store=None):
+        st = initial_state(sw, lamp, v_store, hot=True, v_cap=0.95 * peak, running=True)
+        return run_power_stage(sw, lamp, chain_draw, n * cyc, on=(0.0, math.inf), state=st,
+                               stat_from=SETTLE_CYCLES * cyc, keep=keep,
                                mains_voltage=vrms)  # fmt: skip
 
-    low, nom = run(mains.low, 10**6), run(mains.voltage, 1)
+    low, nom = run(held, mains.low, 10**6), run(switch, mains.voltage, 1)
+    need = low if v_need is None else run(held, mains.low, 10**6, v_need)
     steps = int(round(cyc / (nom.time[1] - nom.time[0])))
     thd, third = _harmonics(nom.current, steps)
     expected = 2 * STEADY_CYCLES
@@ -250,16 +259,15 @@ def on_state(switch: TwoWireSwitch, lamp: Lamp, chain_draw: float) -> OnState:
         r_hot = mains.voltage**2 / lamp.power
         full = mains.voltage**2 / (r_hot + switch.triac_resistance)
         ratio = nom.light_power / full
-        ran = True
-    else:
-        ratio = 1.0 if nom.vc_min > lamp.stop_voltage else nom.light_power / (
-            lamp.power / lamp.efficiency)  # fmt: skip
-        ran = nom.vc_min > lamp.stop_voltage
-    holds = nom.fires >= 0.9 * expected and ran
+        holds = nom.fires >= 0.9 * expected
+    else:  # an LED lamp may skip firings while its capacitor is full: it must keep running
+        holds = nom.vc_min > lamp.stop_voltage and nom.fires > 0
+        ratio = 1.0 if holds else nom.light_power / (lamp.power / lamp.efficiency)
     return OnState(lamp.label, low.harvest, chain_draw + switch.extra_draw(True), nom.alpha,
                    float(ratio), nom.lamp_power, thd, third, nom.lamp_rms, bool(holds),
                    nom.lamp_rms <= switch.max_current,
-                   nom.vc_min if lamp.kind == "led" else math.nan)  # fmt: skip
+                   nom.vc_min if lamp.kind == "led" else math.nan, nom.fires,
+                   need.harvest)  # fmt: skip
 
 
 @dataclass(frozen=True)
@@ -275,18 +283,127 @@ class LampRow:
         return not self.reasons
 
 
-def lamp_row(switch, lamp, chain_draw) -> LampRow:
-    """Both states of one lamp and why it fails, if it does."""
-    off, on = off_state(switch, lamp, chain_draw), on_state(switch, lamp, chain_draw)
+def lamp_row(switch, lamp, chain_draw, v_need=None) -> LampRow:
+    """Both states of one lamp and why it fails, if it does (``v_need``: the lowest storage
+    voltage the chain's rail allows [V])."""
+    off = off_state(switch, lamp, chain_draw)
+    on = on_state(switch, lamp, chain_draw, v_need)
     why = []
     if off.margin < 0:
         why.append(f"off: short by {-off.margin * 1e6:.1f} µA")
     if off.glow == "flashes":
         why.append(f"flashes every {off.flash_interval:.3g} s while off")
-    if on.margin < 0:
-        why.append(f"on: short by {-on.margin * 1e3:.3g} mA")
-    if not on.holds:
+    if on.harvest_at_need < on.draw:
+        why.append(f"on: short by {(on.draw - on.harvest_at_need) * 1e3:.3g} mA even with the "
+                   "storage capacitor at the rail's minimum")  # fmt: skip
+    if on.fires == 0:
+        why.append("on: the triac never fires (the charging path holds the switch below its "
+                   "firing voltage: too small a load)")  # fmt: skip
+    elif not on.holds:
         why.append("on: the triac does not stay on (below the minimum load)")
     if not on.within_rating:
         why.append(f"on: {on.rms_current:.3g} A rms above the switch's rating")
     return LampRow(off, on, tuple(why))
+
+
+@dataclass(frozen=True)
+class TwoWireStudy:
+    """Everything the two-wire supply of a design must answer.
+
+    Attributes
+    ----------
+    chain_draw : float
+        The chain's supply budget [A].
+    rows : tuple of LampRow
+        The design's lamps, then the lamp table.
+    design_lamps : int
+        How many of ``rows`` are the design's own lamps.
+    change : ChangeStudy
+    self_trigger : LampSelfTrigger or None
+    storage : (float, float)
+        Minimum and recommended storage capacitance [F] (inf: none suffices, because a
+        state's steady harvest is below its draw).
+    current_limit : (float, float, float)
+        Lowest regulator current limit that powers the chain off (with 20 % margin), the
+        highest the listed LED lamps tolerate without flashing (inf: none limits it), and
+        the recommended value (nan: none works) [A].
+    verdicts : tuple of str
+        The findings that need action, plainly (empty: none).
+    """
+
+    chain_draw: float
+    rows: tuple
+    design_lamps: int
+    change: object
+    self_trigger: object
+    storage: tuple
+    current_limit: tuple
+    verdicts: tuple
+
+
+def current_limits(switch, chain_draw, rows) -> tuple[float, float, float]:
+    """(lowest, highest, recommended) regulator current limit [A]: the lowest covers the
+    off-state draw with 20 % margin at the conduction fraction a filament load gives at the
+    low mains limit; the highest is the smallest glow threshold among the LED lamps that
+    have one (a lamp that flashes at any leakage needs a bleeder, whatever the limit)."""
+    ref = off_state(switch, Lamp("resistive", 60.0), 0.0)
+    fraction = ref.harvest / switch.off_current_limit
+    low = 1.2 * (chain_draw + switch.extra_draw(False)) / fraction
+    limits = [r.off.glow_threshold for r in rows
+              if math.isfinite(r.off.glow_threshold) and r.off.glow_threshold > 0]  # fmt: skip
+    high = min(limits) if limits else math.inf
+    rec = low if low < high else math.nan
+    return low, high, float(f"{rec:.2g}") if math.isfinite(rec) else rec
+
+
+def two_wire_study(design) -> TwoWireStudy:
+    """The full study of ``design.two_wire`` (:class:`pirchain.circuit.two_wire.TwoWireSupply`)."""
+    from .two_wire_change import change_study, lamp_self_trigger, recommended_storage
+
+    tw = design.two_wire
+    sw = tw.switch
+    draw = design.operating.supply_budget().total
+    lamps = list(tw.lamps) + [lamp for p in tw.table_powers for lamp in lamp_presets(p)]
+    from .two_wire_change import rail_minimum
+
+    v_need = rail_minimum(design) + sw.ldo_dropout
+    rows = tuple(lamp_row(sw, lamp, draw, v_need) for lamp in lamps)
+    change = change_study(design)
+    trig = lamp_self_trigger(design)
+    first = rows[0]
+    steady = first.off.margin >= 0 and first.on.harvest_at_need >= first.on.draw
+    storage = recommended_storage(design) if steady else (math.inf, math.inf)
+    limits = current_limits(sw, draw, rows)
+    why = []
+    if first.off.margin < 0:
+        why.append(
+            f"OFF-STATE SHORTFALL: the chain and the switch draw {first.off.draw * 1e6:.1f} µA "
+            f"while off, the supply through {first.off.lamp} gives {first.off.harvest * 1e6:.1f}"
+            f" µA at {sw.mains.low:.0f} V: {-first.off.margin * 1e6:.1f} µA short; the "
+            "detector cannot power itself off"
+        )
+    for r in rows[: len(tw.lamps)]:
+        why += [f"{r.off.lamp}: {x}" for x in r.reasons if not (r is first and "off: short" in x)]
+    if change.dips_below:
+        why.append(
+            f"the rail dips to {change.rail_min:.2f} V across the change, below the chain's "
+            f"minimum {change.rail_minimum:.2f} V for {change.below_s * 1e3:.0f} ms"
+        )
+    if change.supply_turn_ons:
+        n = change.supply_turn_ons
+        why.append("the rail's movement turns the output on by itself ("
+                   + ("once" if n == 1 else f"{n} times") + " across the change)")  # fmt: skip
+    if trig is not None and not trig.covered:
+        why.append(
+            f"the lamp's own heat keeps the comparator outside its window until "
+            f"{trig.last_outside_s:.1f} s after switch-off, beyond the {trig.lockout_s:.1f} s "
+            "lockout: raise the lockout or move the lamp out of the beams"
+        )
+    if trig is not None and trig.inhibits_itself:
+        why.append("the lamp's own light sets the daylight inhibit")
+    if not math.isfinite(limits[2]):
+        why.append(
+            f"no regulator current limit both powers the chain off ({limits[0] * 1e6:.1f} µA "
+            f"needed) and keeps the listed LED lamps dark ({limits[1] * 1e6:.1f} µA at most)"
+        )
+    return TwoWireStudy(draw, rows, len(tw.lamps), change, trig, storage, limits, tuple(why))

@@ -116,10 +116,10 @@ def power_stage_netlist(
             "DL1 lampa ldp DLED", "DL2 0 ldp DLED", "DL3 ldn lampa DLED", "DL4 ldn 0 DLED",
             f"RIN ldp cin {_g(lamp.input_resistance)}",
             f"CIN cin ldn {_g(lamp.input_capacitance)} IC={_g(v_cap)}",
-            "SDRV cin drv cin ldn SDRVM",
+            "* driver: a hysteretic switch sets its run flag (1 V on dctl), a constant power",
+            "VONE one 0 DC 1", "SDRV one dctl cin ldn SDRVM", "RDCTL dctl 0 1meg",
             f".model SDRVM SW(VT={_g(mid)} VH={_g(half)} RON=0.01 ROFF=1e12)",
-            f"BDRV drv ldn I = {_g(lamp.power / lamp.efficiency)} / max(v(drv,ldn), 1)",
-            "RDRV drv ldn 1e9",
+            f"BDRV cin ldn I = v(dctl) * {_g(lamp.power / lamp.efficiency)} / max(v(cin,ldn), 1)",
         ]  # fmt: skip
         if lamp.bleeder:
             lines.append(f"RBLEED cin ldn {_g(lamp.bleeder)}")

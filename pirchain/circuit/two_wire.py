@@ -362,3 +362,40 @@ def lamp_presets(power: float) -> tuple[Lamp, ...]:
         Lamp("led", power, name=f"LED {power:g} W with bleeder", input_capacitance=c,
              bleeder=470e3),
     )  # fmt: skip
+
+
+@dataclass(frozen=True)
+class TwoWireSupply:
+    """A design's two-wire supply: the switch, the lamps it must work with, and the lamp as
+    the detector sees it.
+
+    Attributes
+    ----------
+    switch : TwoWireSwitch
+    lamps : tuple of Lamp
+        The lamps the designer names (the first is used across the on/off change); the
+        lamp table adds the presets of :func:`lamp_presets` at ``table_powers``.
+    table_powers : tuple of float
+        Rated powers of the lamp table [W].
+    view : pirchain.physics.disturbance.LampInView or None
+        The lamp's heat and light at the detector (None: out of view).
+    on_time : float
+        How long the change study keeps the lamp on [s].
+    """
+
+    switch: TwoWireSwitch = TwoWireSwitch()
+    lamps: tuple = (Lamp("led", 9.0),)
+    table_powers: tuple = (5.0, 10.0, 25.0, 60.0, 100.0)
+    view: object = None
+    on_time: float = 3.0
+
+    def __post_init__(self):
+        object.__setattr__(self, "lamps", tuple(self.lamps))
+        object.__setattr__(self, "table_powers", tuple(float(p) for p in self.table_powers))
+        if not 1 <= len(self.lamps) <= 20:
+            raise DesignError("two_wire.lamps", len(self.lamps), "between 1 and 20 lamps")
+        if not 0 <= len(self.table_powers) <= 20:
+            raise DesignError("two_wire.table_powers", len(self.table_powers), "at most 20")
+        for k, p in enumerate(self.table_powers):
+            check_range(f"two_wire.table_powers[{k}]", p, 0.1, 5000.0, "W")
+        check_range("two_wire.on_time", self.on_time, 0.1, 60.0, "s")

@@ -19,7 +19,7 @@ import numpy as np
 from ..errors import DesignError, ValidityWarning, check_range, warnings_once
 from ..settings import MC_HOURS, WALK_SPEED_RANGE, check_work
 from ..units import parse_celsius, parse_quantity
-from . import cli_calibration, cli_production
+from . import cli_calibration, cli_production, cli_two_wire
 from .cautions import CAUTIONS
 from .output import Progress, check_output, free_name, terminal_text, to_json, write_new
 
@@ -37,6 +37,7 @@ COMMANDS = {
     "report": "the full self-contained HTML report",
     **cli_production.COMMANDS,
     **cli_calibration.COMMANDS,
+    **cli_two_wire.COMMANDS,
 }
 
 
@@ -135,6 +136,7 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("--force", action="store_true", help="replace an existing file")
     cli_production.add_parsers(add)
     cli_calibration.add_parsers(add)
+    cli_two_wire.add_parsers(add)
     return p
 
 
@@ -544,6 +546,7 @@ HANDLERS = {
     "choose-values": lambda a: cli_production.cmd_choose_values(
         a, _design(a), lambda d, t: _emit(a, d, t)
     ),
+    "two-wire": lambda a: cli_two_wire.cmd_two_wire(a, _design(a), lambda d, t: _emit(a, d, t)),
     "bench-fit": lambda a: cli_calibration.cmd_bench_fit(
         a, _design(a), _design_text(a), lambda d, t: _emit(a, d, t)
     ),

@@ -24,10 +24,11 @@ from ..circuit.noise import NoiseScale
 from ..circuit.opamp import OpAmp, white_density
 from ..circuit.stages import STAGE_TYPES
 from ..circuit.supply import PowerSupply
+from ..circuit.two_wire import Lamp, Mains, TwoWireSupply, TwoWireSwitch
 from ..design import Design
 from ..errors import DesignError
 from ..logic.rules import DaylightInhibit, PulseLogic
-from ..physics.disturbance import AmbientCases, Draught
+from ..physics.disturbance import AmbientCases, Draught, LampInView
 from ..physics.optics import Facet, Lens, LensRing, LensTier, Mount, ceiling_lens, wall_lens
 from ..physics.scene import Environment
 from ..physics.sensor import PyroSensor, dual_elements, quad_elements
@@ -321,6 +322,26 @@ def _calibration(c):
     return _build("calibration", lambda: CalibrationRecord(**c))
 
 
+def _two_wire(c):
+    if c is None:
+        return None
+    c = dict(c)
+    mains = _build("two_wire", lambda: Mains(c.pop("mains_voltage"), c.pop("mains_frequency"),
+                                             c.pop("mains_tolerance")))  # fmt: skip
+    lamps = tuple(
+        _build(f"two_wire.lamps[{k}]", lambda lp=lp: Lamp(**lp))
+        for k, lp in enumerate(c.pop("lamps") or ())
+    )
+    view = c.pop("lamp_in_view")
+    view = None if view is None else _build("two_wire.lamp_in_view", lambda: LampInView(**view))
+    powers = tuple(_quantities("two_wire.table_powers", c.pop("table_powers")))
+    on_time = c.pop("on_time")
+    switch = _build("two_wire", lambda: TwoWireSwitch(mains, **c))
+    extra = {"lamps": lamps} if lamps else {}
+    return _build("two_wire", lambda: TwoWireSupply(switch, table_powers=powers, view=view,
+                                                    on_time=on_time, **extra))  # fmt: skip
+
+
 def design_from_dict(data: dict) -> Design:
     """Build a :class:`Design` from parsed TOML data (raises :class:`DesignError`)."""
     c = _read(data, SCHEMA, "")
@@ -392,6 +413,7 @@ def design_from_dict(data: dict) -> Design:
     ambient = _build("ambient", lambda: AmbientCases(**amb))
     tolerances = tuple(_tolerance(i, t) for i, t in enumerate(c["tolerances"] or ()))
     acceptance = _acceptance(c["acceptance"])
+    two_wire = _two_wire(c["two_wire"])
     design = _build(
         "scene",
         lambda: Design(
@@ -407,6 +429,7 @@ def design_from_dict(data: dict) -> Design:
             tolerances,
             acceptance,
             cal,
+            two_wire,
         ),
     )
     expand(design)  # every tolerance names values of this design (or a one-line error)

@@ -19,9 +19,10 @@ from ..circuit.follower import Jfet
 from ..circuit.opamp import OpAmp
 from ..circuit.stages import STAGE_TYPES
 from ..circuit.supply import PowerSupply
+from ..circuit.two_wire import LAMP_KINDS, Lamp, Mains, TwoWireSupply, TwoWireSwitch
 from ..design import Design
 from ..logic.rules import DaylightInhibit, PulseLogic
-from ..physics.disturbance import AmbientCases, Draught
+from ..physics.disturbance import AmbientCases, Draught, LampInView
 from ..physics.optics import Facet, Lens, LensRing, LensTier, Mount, wall_lens
 from ..physics.scene import DEFAULT_TARGET, TARGET_PRESETS, Environment
 from ..physics.sensor import MATERIALS, PyroSensor, dual_elements
@@ -128,6 +129,39 @@ TOLERANCE = {
     "sigmas": _q(None, From(Tolerance)),
     "random_sign": ("bool", None, From(Tolerance)),
 }
+LAMP = {
+    "kind": _choice(LAMP_KINDS, From(Lamp)),
+    "power": _q("W"),
+    "name": ("str", None, From(Lamp)),
+    **_fields(Lamp, {"cold_ratio": None, "filament_time_constant": "s",
+                     "input_capacitance": "F", "input_resistance": "ohm", "start_voltage": "V",
+                     "stop_voltage": "V", "bleeder": "ohm", "efficiency": None, "bypass": "ohm",
+                     "diode_drop": "V"}),
+}  # fmt: skip
+TWO_WIRE = {
+    "mains_voltage": _q("V", From(Mains, "voltage")),
+    "mains_frequency": _q("Hz", From(Mains, "frequency")),
+    "mains_tolerance": _q(None, From(Mains, "tolerance")),
+    **_fields(
+        TwoWireSwitch,
+        {"off_current_limit": "A", "regulator_dropout": "V", "zener_voltage": "V",
+         "zener_test_current": "A", "zener_slope": "V", "storage_capacitance": "F",
+         "diode_drop": "V", "fire_voltage": "V", "on_charge_resistance": "ohm",
+         "holding_current": "A", "triac_resistance": "ohm", "max_current": "A",
+         "ldo_dropout": "V", "rail_minimum": "V", "gate_current": "A", "gate_pulse": "s",
+         "indicator_current": "A", "relay_current": "A"},
+        {"indicator_when": ("choice", ("off", "on", "both", "never"))},
+    ),
+    "table_powers": ("list", None, From(TwoWireSupply)),
+    "on_time": _q("s", From(TwoWireSupply)),
+    "lamps": ("tables", LAMP, None),
+    "lamp_in_view": (
+        "section",
+        _fields(LampInView, {"fraction_plus": None, "fraction_minus": None, "warm_k": "K",
+                             "cooling_s": "s", "lux": "lux"}),
+        None,
+    ),
+}  # fmt: skip
 _MATERIAL = PyroSensor.from_material
 _DATASHEET = PyroSensor.from_datasheet
 SCHEMA = {
@@ -352,6 +386,7 @@ SCHEMA = {
         },
         None,
     ),  # fmt: skip
+    "two_wire": ("section", TWO_WIRE, None),
     "analysis": (
         "section",
         _fields(

@@ -276,3 +276,20 @@ def bench_fit(capture=None, waveform=None, quiet=None, walks=None):
         ax.legend(fontsize=7)
     fig.tight_layout()
     return fig
+
+
+def two_wire_change(change):
+    """The storage capacitor and the chain's rail through off → on → off."""
+    fig, (a1, a2) = plt.subplots(2, 1, figsize=(7, 5), sharex=True)
+    a1.plot(change.time, change.v_store, lw=0.8, color="C0")
+    a1.set_ylabel("storage capacitor [V]")
+    a1.set_title(f"Two-wire supply across the change ({change.lamp}): mains off → on → off")
+    a2.plot(change.time, change.rail, lw=0.8, color="C1", label="chain rail")
+    a2.axhline(change.rail_minimum, color="C3", ls="--", lw=1, label="chain minimum")
+    a2.set_ylabel("rail [V]")
+    a2.set_xlabel("time [s]")
+    for ax in (a1, a2):
+        ax.axvspan(change.on_from, change.on_until, color="0.9", zorder=0)
+    a2.legend(loc="lower right", fontsize=8)
+    fig.tight_layout()
+    return fig

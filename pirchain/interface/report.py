@@ -28,7 +28,7 @@ from ..circuit.schematic import schematic_svg
 from ..errors import ValidityWarning, warnings_once
 from ..physics.scene import tangential_path, walks_from_paths
 from ..units import format_eng
-from . import plots, report_calibration, report_signoff
+from . import plots, report_calibration, report_signoff, report_two_wire
 from .cautions import CAUTIONS
 from .design_schema import unit_of
 from .output import terminal_text
@@ -176,6 +176,9 @@ def compute(design, progress=None) -> dict:
     out["calibration"] = report_calibration.compute(design)
     if out["calibration"] is not None:
         num["calibrated_from"] = out["calibration"]["fitted_from"]
+    out["two_wire"] = report_two_wire.compute(design)
+    if out["two_wire"] is not None:
+        num["two_wire_verdicts"] = out["two_wire"]["data"]["verdicts"]
     out["signoff"] = report_signoff.compute(design)
     if out["signoff"] is not None:
         num["signoff_yield"] = out["signoff"]["yield"]["yield"]
@@ -317,6 +320,7 @@ def render(design, data: dict) -> str:
         _img(fig["ambient"], "worst ambient case"),
         _pre(num["ambient_table"]),
         *report_calibration.html(data.get("calibration"), _esc, _pre),
+        *report_two_wire.html(data.get("two_wire"), _esc, _pre, _img),
         *report_signoff.html(design, data.get("signoff"), _esc, _pre, _img, plots.png_bytes),
         "<h2>Power-up and supply</h2>",
         _img(fig["power_up"], "power-up"),

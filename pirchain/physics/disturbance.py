@@ -186,6 +186,51 @@ def hvac_power(detector, env, hvac: HvacCycle, t) -> np.ndarray:
     return (hvac.fraction_plus * a + hvac.fraction_minus * b) * hvac.temperature(t)
 
 
+@dataclass(frozen=True)
+class LampInView:
+    """The switched lamp as the detector sees it: its warm glass or heat sink in part of the
+    beams, and its light on the daylight sensor.
+
+    Attributes
+    ----------
+    fraction_plus, fraction_minus : float
+        Fractions of the + and − beams' background the lamp fills (0–1).
+    warm_k : float
+        The lamp's surface above the room while it is on [K] (a filament bulb's glass is
+        tens of kelvin warmer, an LED lamp's heat sink ten or twenty: from memory).
+    cooling_s : float
+        Its cooling time constant after switch-off [s] (a minute or so: from memory).
+    lux : float
+        Illuminance the lamp adds at the daylight sensor while on [lux].
+    """
+
+    fraction_plus: float = 0.0
+    fraction_minus: float = 0.0
+    warm_k: float = 30.0
+    cooling_s: float = 60.0
+    lux: float = 0.0
+
+    def __post_init__(self):
+        check_range("lamp_in_view.fraction_plus", self.fraction_plus, 0.0, 1.0)
+        check_range("lamp_in_view.fraction_minus", self.fraction_minus, 0.0, 1.0)
+        check_range("lamp_in_view.warm_k", self.warm_k, 0.0, 500.0, "K")
+        check_range("lamp_in_view.cooling_s", self.cooling_s, 0.1, 3600.0, "s")
+        check_range("lamp_in_view.lux", self.lux, 0.0, 1e5, "lux")
+
+    def temperature(self, t) -> np.ndarray:
+        """Change of the lamp's surface from its on-state temperature, t [s] after
+        switch-off [K] (first-order cooling)."""
+        t = np.asarray(t, dtype=float)
+        return -self.warm_k * (1.0 - np.exp(-np.clip(t, 0.0, None) / self.cooling_s))
+
+
+def lamp_power(detector, env, view: LampInView, t) -> np.ndarray:
+    """P_eq(t) of the lamp cooling after switch-off [W] (a background patch in the beams,
+    as :func:`hvac_power`)."""
+    a, b = polarity_sums(detector, env)
+    return (view.fraction_plus * a + view.fraction_minus * b) * view.temperature(t)
+
+
 MAX_CASE_SAMPLES = 1e6  # per ambient case (a run's memory; the kept figure is decimated)
 
 
