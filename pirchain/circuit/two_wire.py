@@ -254,7 +254,7 @@ class TwoWireSwitch:
         check_range("two_wire.zener_slope", self.zener_slope, 0.005, 2.0, "V")
         check_range("two_wire.storage_capacitance", self.storage_capacitance, 1e-8, 1.0, "F")
         check_range("two_wire.diode_drop", self.diode_drop, 0.0, 2.0, "V")
-        check_range("two_wire.fire_voltage", self.fire_voltage, 1.0, 200.0, "V")
+        check_range("two_wire.fire_voltage", self.fire_voltage, 1.0, 800.0, "V")
         if self.fire_voltage <= self.zener_voltage + 3 * self.diode_drop:
             raise DesignError(
                 "two_wire.fire_voltage", self.fire_voltage,
