@@ -27,7 +27,7 @@ ALLOWED = {
     "kernels": {"physics", "circuit", "logic"},
     "chain": {"errors", "units", "physics", "circuit", "logic", "kernels"},
     "signoff": {"errors"},
-    "design": {"errors", "settings", "signoff", "physics", "chain"},
+    "design": {"errors", "settings", "signoff", "physics", "circuit", "chain"},
     "analysis": {"errors", "units", "settings", "physics", "circuit", "logic", "chain", "design"},
     "production": set("errors units settings signoff physics circuit logic chain design".split())
     | {"analysis"},

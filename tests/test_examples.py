@@ -154,3 +154,32 @@ def test_bench_calibration_worked_example(tmp_path):
     proc = subprocess.run([sys.executable, "-m", "pirchain.interface.entry", "check", str(cal)],
                           capture_output=True, text=True, check=False, timeout=600)  # fmt: skip
     assert proc.returncode == 0, proc.stderr
+
+
+def test_two_wire_corridor_switch_example():
+    # the invented corridor switch: its chain draws what its supply budget says (the sum of
+    # its parts, Ohm's law for the dividers), its bare LED bulb flashes while off at an
+    # interval no shorter than the charge time C (V_start − V_stop) / I_lim of its input
+    # capacitor (common practice: the leakage charges it), the finding names a bypass, and
+    # the recommended current limit lies inside the window the study states
+    path = os.path.join(ROOT, "examples", "two_wire_corridor_switch.toml")
+    proc = subprocess.run(
+        [sys.executable, "-m", "pirchain.interface.entry", "two-wire", path, "--json"],
+        capture_output=True, text=True, check=False, timeout=600,
+        env=dict(os.environ, MPLBACKEND="Agg"),
+    )  # fmt: skip
+    assert proc.returncode == 0, proc.stderr
+    data = json.loads(proc.stdout)
+    from pirchain.interface.design_file import load
+
+    d = load(path)
+    assert data["chain_draw_a"] == pytest.approx(d.operating.supply_budget().total, rel=1e-12)
+    bulb = data["lamps"][0]
+    assert bulb["design_lamp"] and bulb["glow"] == "flashes"
+    lamp, sw = d.two_wire.lamps[0], d.two_wire.switch
+    charge_time = lamp.input_capacitance * (lamp.start_voltage - lamp.stop_voltage)
+    assert bulb["flash_interval_s"] >= charge_time / sw.off_current_limit
+    assert any("bypass of at most" in v for v in data["verdicts"])
+    lo, hi = data["current_limit_low_a"], data["current_limit_high_a"]
+    assert lo <= data["current_limit_recommended_a"] <= hi
+    assert "hazardous voltage" in data["caution"]

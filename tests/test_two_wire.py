@@ -13,7 +13,7 @@ import math
 import numpy as np
 import pytest
 
-from pirchain.analysis.two_wire import glow_threshold, off_state, two_wire_study
+from pirchain.analysis.two_wire import bypass_for, glow_threshold, off_state, two_wire_study
 from pirchain.chain.power_stage import initial_state, run_power_stage
 from pirchain.circuit.netlist import ngspice_available
 from pirchain.circuit.power_netlist import run_power_stage_ngspice
@@ -165,3 +165,20 @@ def test_two_wire_command_json_and_refusals(tmp_path, capsys):
     path.write_text(DEMO_TOML + "\n[two_wire]\nfire_voltage = 5\n", encoding="utf-8")
     assert main(["check", str(path)]) == 2
     assert "two_wire.fire_voltage" in capsys.readouterr().err
+
+
+def test_the_recommended_bypass_keeps_a_flashing_lamp_dark():
+    # in the series loop the leakage I_lim flows through a bypass R across the lamp while
+    # I_lim R is below the lamp's capacitor voltage plus its bridge drops (Ohm's law), so a
+    # bypass of at most V_start / (2 I_lim) holds the capacitor below the driver's start
+    sw = TwoWireSwitch(off_current_limit=45e-6)
+    lamp = Lamp("led", 7.0, input_capacitance=3.3e-6)
+    assert off_state(sw, lamp, 10e-6).glow == "flashes"
+    r = bypass_for(lamp, sw)
+    assert r <= 0.5 * lamp.start_voltage / sw.off_current_limit
+    fixed = off_state(sw, dataclasses.replace(lamp, bypass=r), 10e-6)
+    assert fixed.glow == "none"
+    # it settles near I_lim R = half the start voltage (within the cycle-averaged model's
+    # grid of 48 capacitor voltages, 7 V apart here)
+    assert fixed.settles_at < 0.6 * lamp.start_voltage
+    assert fixed.harvest >= 0.9 * sw.off_current_limit  # the switch still gets its supply

@@ -167,7 +167,8 @@ def _flashes(switch, lamp, vrms, current_limit=None):
     loop, cap = cap_currents(switch, lamp, v, vrms, current_limit)
     bleed = v / lamp.bleeder if lamp.bleeder else np.zeros_like(v)
     up = v <= lamp.start_voltage
-    return v, loop, cap, bool(np.all(cap[up] - bleed[up] > 0.0))
+    floor = 1e-6 * (switch.off_current_limit if current_limit is None else current_limit)
+    return v, loop, cap, bool(np.all(cap[up] - bleed[up] > floor))  # ppm: numerically none
 
 
 def glow_threshold(switch, lamp, vrms) -> float:
@@ -201,7 +202,7 @@ def off_state(switch: TwoWireSwitch, lamp: Lamp, chain_draw: float) -> OffState:
     net = cap - bleed
     threshold = glow_threshold(switch, lamp, mains.high)
     if not flashes:
-        k = int(np.flatnonzero(net <= 0.0)[0])
+        k = int(np.flatnonzero(net <= 1e-6 * switch.off_current_limit)[0])
         v_star = 0.0 if k == 0 else float(np.interp(0.0, -net[k - 1 : k + 1], v[k - 1 : k + 1]))
         harvest = float(np.interp(v_star, v, loop))
         return OffState(lamp.label, harvest, draw, harvest, "none", settles_at=v_star,
@@ -352,8 +353,25 @@ def current_limits(switch, chain_draw, rows) -> tuple[float, float, float]:
     limits = [r.off.glow_threshold for r in rows
               if math.isfinite(r.off.glow_threshold) and r.off.glow_threshold > 0]  # fmt: skip
     high = min(limits) if limits else math.inf
-    rec = low if low < high else math.nan
-    return low, high, float(f"{rec:.2g}") if math.isfinite(rec) else rec
+    if not low < high:
+        return low, high, math.nan
+    rec = _round_up(low)
+    return low, high, rec if rec <= high else low
+
+
+def _round_up(x: float) -> float:
+    """``x`` rounded up to two significant digits."""
+    step = 10.0 ** (math.floor(math.log10(x)) - 1)
+    return math.ceil(x / step - 1e-9) * step
+
+
+def bypass_for(lamp: Lamp, switch: TwoWireSwitch) -> float:
+    """The largest resistor across the lamp's terminals [Ω] that carries the off-state
+    leakage with the lamp's terminals at half its driver's start voltage, so its input
+    capacitor cannot reach the start voltage (rounded down to two digits)."""
+    r = 0.5 * lamp.start_voltage / switch.off_current_limit
+    step = 10.0 ** (math.floor(math.log10(r)) - 1)
+    return math.floor(r / step) * step
 
 
 def two_wire_study(design) -> TwoWireStudy:
@@ -382,8 +400,14 @@ def two_wire_study(design) -> TwoWireStudy:
             f" µA at {sw.mains.low:.0f} V: {-first.off.margin * 1e6:.1f} µA short; the "
             "detector cannot power itself off"
         )
-    for r in rows[: len(tw.lamps)]:
-        why += [f"{r.off.lamp}: {x}" for x in r.reasons if not (r is first and "off: short" in x)]
+    for r, lamp in zip(rows[: len(tw.lamps)], tw.lamps, strict=True):
+        for x in r.reasons:
+            if r is first and "off: short" in x:
+                continue
+            if x.startswith("flashes"):
+                x += (f": fit a bleeder, or a bypass of at most "
+                      f"{bypass_for(lamp, sw) / 1e6:.2g} MΩ across the lamp")  # fmt: skip
+            why.append(f"{r.off.lamp}: {x}")
     if change.dips_below:
         why.append(
             f"the rail dips to {change.rail_min:.2f} V across the change, below the chain's "

@@ -100,7 +100,7 @@ def study_text(study, design) -> str:
         "",
         f"Lamps (off state at {m.low:.0f} V; on-state harvest at {m.low:.0f} V, firing and"
         f" power at {m.voltage:.0f} V):",
-        f"  {'lamp':26s} {'off margin':>11s}  {'glow while off':26s} {'on margin':>10s}"
+        f"  {'lamp':30s} {'off margin':>11s}  {'glow while off':26s} {'on margin':>10s}"
         f" {'firing':>7s} {'power':>6s} {'THD':>5s}  verdict",
     ]
     for k, r in enumerate(study.rows):
@@ -108,7 +108,7 @@ def study_text(study, design) -> str:
         fire = f"{math.degrees(n.alpha):.0f}°" if math.isfinite(n.alpha) else "never"
         mark = "*" if k < study.design_lamps else " "
         lines.append(
-            f" {mark}{o.lamp[:26]:26s} {_ua(o.margin):>11s}  {_glow(o)[:26]:26s}"
+            f" {mark}{o.lamp[:30]:30s} {_ua(o.margin):>11s}  {_glow(o)[:26]:26s}"
             f" {n.margin * 1e3:+8.2f}mA {fire:>7s} {n.power_ratio * 100:5.1f}% {n.thd:5.2f}"
             f"  {'works' if r.works else '; '.join(r.reasons)}"
         )

@@ -3,7 +3,8 @@
 Owns the machine-code implementations of the model's time-domain rules — element power
 from the beam overlaps (static body parts and swinging-arm segments), the sensor's
 section, the JFET follower, the rail-pinned stage sections, the window comparator and the
-pulse rules — and the per-walk pass that chains them (:mod:`pirchain.kernels.chain`). The
+pulse rules — and the per-walk pass that chains them (:mod:`pirchain.kernels.chain`); and
+the two-wire switch's power stage stepped in time (:mod:`pirchain.kernels.power_stage`). The
 pass reads named tables built by :mod:`pirchain.chain.tables`; scalar rules that Python
 code needs too (the square law, the rail-mode rule, the latch, the pose rules) are written
 once in their domain module and compiled here with :func:`pirchain.kernels.jit.rule`. May
@@ -34,6 +35,8 @@ SOURCES = (
     "kernels/stages.py",
     "kernels/logic.py",
     "kernels/chain.py",
+    "kernels/power_stage.py",
+    "circuit/two_wire.py",
     "physics/pose.py",
     "physics/optics.py",
     "circuit/follower.py",
