@@ -291,5 +291,7 @@ def two_wire_change(change):
     for ax in (a1, a2):
         ax.axvspan(change.on_from, change.on_until, color="0.9", zorder=0)
     a2.legend(loc="lower right", fontsize=8)
-    fig.tight_layout()
+    fig.tight_layout(rect=(0, 0.05, 1, 1))
+    fig.text(0.01, 0.01, "CAUTION: the whole power stage is at mains potential; follow local "
+             "electrical codes and licensed practice.", fontsize=7, color="C3")  # fmt: skip
     return fig
