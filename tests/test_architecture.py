@@ -169,3 +169,29 @@ def test_command_line_does_not_import_the_compiler_to_show_help():
     )
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
     assert out.stdout.split() == ["False", "False"]
+
+
+def test_light_commands_load_neither_the_compiler_nor_the_plotting_library():
+    # issue 17: --help, check, demo-design and netlist answer in a fraction of a second; the
+    # compiler (numba), the plotting library (matplotlib) and python-control are loaded only by
+    # commands that compute (inspected in a fresh interpreter's sys.modules)
+    code = (
+        "import sys, contextlib, io\n"
+        "from pirchain.interface.cli import main\n"
+        "argv = sys.argv[1:]\n"
+        "with contextlib.redirect_stdout(io.StringIO()):\n"
+        "    try:\n"
+        "        main(argv)\n"
+        "    except SystemExit:\n"
+        "        pass\n"
+        "print(sorted(m for m in ('numba', 'matplotlib', 'control', 'distributed')"
+        " if m in sys.modules))\n"
+    )
+    import tempfile
+
+    with tempfile.TemporaryDirectory() as tmp:
+        for args in (["--help"], ["check"], ["demo-design", "-o", f"{tmp}/d.toml"],
+                     ["netlist", "-o", f"{tmp}/n.cir"]):  # fmt: skip
+            out = subprocess.run([sys.executable, "-c", code, *args], capture_output=True,
+                                 text=True, check=True)  # fmt: skip
+            assert out.stdout.strip().splitlines()[-1] == "[]", (args, out.stdout[-300:])

@@ -10,8 +10,8 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field, replace
+from typing import TYPE_CHECKING
 
-import control
 import numpy as np
 
 from ..circuit.comparator import WindowComparator
@@ -24,6 +24,9 @@ from ..logic.rules import PulseLogic
 from ..physics.optics import Beams, Lens, Mount, crossing_frequency, make_beams
 from ..physics.sensor import REFERENCE_K, PyroSensor
 from .engine import TAPS, ChainRun, CompiledChain, WalkOutcomes, compile_chain
+
+if TYPE_CHECKING:  # python-control loads on first use (start-up time)
+    import control
 
 MAX_GATE_LIFT = 5.0  # V: beyond, the gate junction would be forward-biased long before
 

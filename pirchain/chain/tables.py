@@ -13,7 +13,6 @@ import math
 from typing import NamedTuple
 
 import numpy as np
-from scipy import signal
 
 from ..circuit.rails import modal_form, pad2
 from ..logic.rules import logic_clock
@@ -235,6 +234,8 @@ def optics_table(beams, sensor, lens_height: float, per_element: bool) -> Optics
 
 def sensor_table(sensor, sample_rate: float) -> SensorTable:
     """The sensor's sections, and their parallel form when usable."""
+    from scipy import signal
+
     sos = np.array(sensor.sos(sample_rate), dtype=float)
     sos = sos / sos[:, 3:4]
     par = (0.0,) * 5

@@ -27,13 +27,10 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, replace
 
-import control
-from scipy import constants
-
 from ..errors import DesignError, check_nonnegative, check_positive, check_range, check_real
+from ..physics.constants import K_B, Q_E
 from .noise import NoiseSource
 
-K_B, Q_E = constants.k, constants.e
 LEAKAGE_DOUBLING = 10.0  # K per doubling of a junction's reverse leakage (common practice)
 IDSS_EXPONENT = -1.5  # I_DSS ∝ T^−1.5 (channel mobility; common practice, from memory)
 PINCH_OFF_TEMPCO = 2.2e-3  # d|V_P|/dT [V/K] (common practice, from memory)
@@ -233,6 +230,8 @@ class SourceFollower:
         -------
         list of pirchain.circuit.noise.NoiseSource
         """
+        import control
+
         white, flicker = self.voltage_noise(temperature)
         i2 = self.current_noise()
         out = []

@@ -32,9 +32,9 @@ import subprocess
 import tempfile
 
 import numpy as np
-from scipy import constants
 
 from ..errors import PirchainError
+from ..physics.constants import K_B
 
 
 def _g(x: float) -> str:
@@ -61,7 +61,7 @@ class NetlistWriter:
         A resistor R = white/(4kT) on an isolated node fed with 1 V / R of DC; its resistor
         model's flicker term KF I^2 R²/f = KF (1 V)²/f gives ``flicker`` with KF = flicker.
         """
-        r = white / (4 * constants.k * self.temperature)
+        r = white / (4 * K_B * self.temperature)
         lines = [f"I{name} 0 {name} DC {_g(1.0 / r)}", f"V{name}R {name}r 0 DC 1"]
         if flicker > 0:
             lines.append(f"R{name} {name} 0 {_g(r)} RM{name}")

@@ -25,15 +25,16 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
-import control
 import numpy as np
-from scipy import constants
 
 from ..errors import DesignError
+from ..physics.constants import K_B
 from .stage import chain_transfer_function
 
-K_B = constants.k
+if TYPE_CHECKING:  # python-control loads on first use (start-up time)
+    import control
 
 
 @dataclass(frozen=True)
@@ -125,6 +126,8 @@ def amplifier_sources(tag: str, amp, voltage_path, current_path=None) -> list[No
 
 
 def _gate_parts(detector, temperature):
+    import control
+
     s = detector.sensor
     kt4 = 4 * K_B * temperature
     z_gate = control.tf([s.gate_resistance], [s.electrical_time_constant, 1.0])
@@ -186,6 +189,8 @@ def noise_sources(
 
 def sensor_sources(detector, temperature: float | None = None) -> list[NoiseSource]:
     """The sensor's own sources (and the JFET's) referred to the gate node [V² Hz⁻¹]."""
+    import control
+
     temperature = detector.temperature if temperature is None else temperature
     out, z_gate = _gate_parts(detector, temperature)
     if detector.follower is not None:

@@ -20,10 +20,12 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, replace
-
-import control
+from typing import TYPE_CHECKING
 
 from ..errors import DesignError, check_nonnegative, check_positive, check_range, check_real
+
+if TYPE_CHECKING:  # python-control loads on first use (start-up time)
+    import control
 
 
 @dataclass(frozen=True)
@@ -102,6 +104,8 @@ class OpAmp:
 
     def open_loop(self) -> control.TransferFunction:
         """A(s) = A0 / (1 + s A0 / (2π GBW))."""
+        import control
+
         a0 = self.open_loop_gain
         return control.tf([a0], [a0 / (2 * math.pi * self.gbw), 1.0])
 

@@ -22,8 +22,8 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
-import control
 import numpy as np
 
 from ..errors import check_positive, check_range, check_real
@@ -31,6 +31,9 @@ from .noise import K_B, NoiseSource, amplifier_sources
 from .opamp import OpAmp
 from .rails import Section, StateModel
 from .stage import Stage, poly_tf
+
+if TYPE_CHECKING:  # python-control loads on first use (start-up time)
+    import control
 
 ELECTROLYTIC_DOUBLING = 20.0  # K per doubling of an electrolytic's leakage (from memory)
 
@@ -127,6 +130,8 @@ class _OpAmpBandPass(Stage):
         )
 
     def _impedances(self):
+        import control
+
         s = control.tf("s")
         return self.r1 + 1 / (self.c1 * s), 1 / (1 / self.rf + self.cf * s)
 

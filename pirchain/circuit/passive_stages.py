@@ -4,14 +4,17 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
-import control
 import numpy as np
 
 from ..errors import check_positive, check_range, check_real
 from .noise import K_B, NoiseSource
 from .rails import Section, StateModel
 from .stage import Stage
+
+if TYPE_CHECKING:  # python-control loads on first use (start-up time)
+    import control
 
 
 class _PassiveRC(Stage):
@@ -49,6 +52,8 @@ class _PassiveRC(Stage):
 
     def noise_sources(self, index, temperature, downstream) -> list[NoiseSource]:
         """The resistor's Johnson noise 4kTR through 1/(1 + sRC)."""
+        import control
+
         lp = control.tf([1.0], [self.r * self.c, 1.0])
         return [
             NoiseSource(
@@ -77,6 +82,8 @@ class RCHighPass(_PassiveRC):
 
     def transfer_function(self, gbw: bool = False) -> control.TransferFunction:
         """s R C / (1 + s R C)."""
+        import control
+
         return control.tf([self.r * self.c, 0.0], [self.r * self.c, 1.0])
 
     def state_model(self, pinned=None) -> StateModel:
@@ -115,6 +122,8 @@ class RCLowPass(_PassiveRC):
 
     def transfer_function(self, gbw: bool = False) -> control.TransferFunction:
         """1 / (1 + s R C)."""
+        import control
+
         return control.tf([1.0], [self.r * self.c, 1.0])
 
     def state_model(self, pinned=None) -> StateModel:

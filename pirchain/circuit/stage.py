@@ -20,15 +20,20 @@ from __future__ import annotations
 
 from abc import ABC, abstractmethod
 from dataclasses import replace
+from typing import TYPE_CHECKING
 
-import control
 import numpy as np
 
 from .rails import SectionTables, discretise
 
+if TYPE_CHECKING:  # python-control loads on first use (start-up time)
+    import control
+
 
 def poly_tf(num, den) -> control.TransferFunction:
     """A python-control transfer function from polynomial coefficients (s^n first)."""
+    import control
+
     return control.tf(np.atleast_1d(np.asarray(num, float)), np.atleast_1d(np.asarray(den, float)))
 
 
@@ -127,6 +132,8 @@ class Stage(ABC):
 
 def chain_transfer_function(stages, gbw: bool = False) -> control.TransferFunction:
     """Product of the stages' transfer functions (deviations from each stage's DC level)."""
+    import control
+
     tf = control.tf([1.0], [1.0])
     for st in stages:
         tf = tf * st.transfer_function(gbw)

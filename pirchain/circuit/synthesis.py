@@ -30,16 +30,32 @@ import functools
 import math
 
 import numpy as np
-from scipy import signal
+
+_MEMO_SIZE = 2048  # entries of each memo below (a design's sources at a few sample rates)
+_SOS_MEMO: dict = {}
+_ROOT_MEMO: dict = {}
+
+
+def _remember(memo: dict, key, value):
+    if len(memo) >= _MEMO_SIZE:
+        memo.clear()
+    memo[key] = value
+    return value
 
 
 def tf_sos(transfer, sample_rate: float) -> np.ndarray:
-    """Bilinear sections of a python-control SISO transfer function."""
+    """Bilinear sections of a python-control SISO transfer function (remembered by the
+    coefficients and the rate: a design's noise set-up repeats them at every evaluation)."""
     num = np.asarray(transfer.num[0][0], dtype=float)
     den = np.asarray(transfer.den[0][0], dtype=float)
+    key = (num.tobytes(), den.tobytes(), float(sample_rate))
+    if key in _SOS_MEMO:
+        return _SOS_MEMO[key].copy()
+    from scipy import signal
+
     z, p, k = signal.tf2zpk(num, den)
     zd, pd, kd = signal.bilinear_zpk(z, p, k, sample_rate)
-    return signal.zpk2sos(zd, pd, kd)
+    return _remember(_SOS_MEMO, key, signal.zpk2sos(zd, pd, kd)).copy()
 
 
 @functools.lru_cache(maxsize=16)
@@ -60,6 +76,8 @@ def half_order_sos(
     ``sign`` = +1 shapes white noise into a density rising as f (dielectric loss), −1 into
     a flicker (1/f) density.
     """
+    from scipy import signal
+
     f_hi = 0.45 * sample_rate if f_hi is None else f_hi
     n = int(math.ceil(math.log10(f_hi / f_lo) * per_decade))
     step = 10.0 ** (1.0 / per_decade)
@@ -119,11 +137,13 @@ def _lyapunov_doubling(a: np.ndarray, q: np.ndarray) -> np.ndarray:
     return p
 
 
-def stationary_states(sos: np.ndarray, scale: float, streams: int, rng, check: int = 400):
-    """A draw of the cascade's states from their stationary distribution for white input of
-    standard deviation ``scale``, shaped as ``sosfilt``'s ``zi`` (sections, streams, 2);
-    None if the draw would not be stationary to 0.1 % over the first ``check`` samples
-    (a covariance too ill-conditioned to factor; the caller then warms the filter up)."""
+def _stationary_root(sos: np.ndarray, check: int):
+    """R with R Rᵀ the stationary state covariance of the cascade for unit white input, or
+    None when a draw from it would not be stationary to 0.1 % over the first ``check``
+    samples (remembered by the sections: deterministic, and the same at every evaluation)."""
+    key = (sos.tobytes(), sos.shape, check)
+    if key in _ROOT_MEMO:
+        return _ROOT_MEMO[key]
     a, b, c, d = cascade_state_space(sos)
     p = _lyapunov_doubling(a, np.outer(b, b))
     w, v = np.linalg.eigh(0.5 * (p + p.T))
@@ -138,9 +158,21 @@ def stationary_states(sos: np.ndarray, scale: float, streams: int, rng, check: i
     impulse = (rows @ b) ** 2
     noise = d * d + np.concatenate(([0.0], np.cumsum(impulse)[:-1]))
     var = np.sum((rows @ root) ** 2, axis=1) + noise
-    if not np.all(np.abs(var - target) <= 1e-3 * target):
+    ok = np.all(np.abs(var - target) <= 1e-3 * target)
+    if ok:
+        root.setflags(write=False)
+    return _remember(_ROOT_MEMO, key, root if ok else None)
+
+
+def stationary_states(sos: np.ndarray, scale: float, streams: int, rng, check: int = 400):
+    """A draw of the cascade's states from their stationary distribution for white input of
+    standard deviation ``scale``, shaped as ``sosfilt``'s ``zi`` (sections, streams, 2);
+    None if the draw would not be stationary to 0.1 % over the first ``check`` samples
+    (a covariance too ill-conditioned to factor; the caller then warms the filter up)."""
+    root = _stationary_root(sos, check)
+    if root is None:
         return None
-    z = scale * (root @ rng.standard_normal((a.shape[0], streams)))
+    z = scale * (root @ rng.standard_normal((root.shape[0], streams)))
     return np.ascontiguousarray(z.reshape(sos.shape[0], 2, streams).transpose(0, 2, 1))
 
 
@@ -187,6 +219,8 @@ class NoiseSynthesizer:
 
     def next(self, n: int) -> np.ndarray:
         """The next ``n`` samples of every stream, shape (streams, n) [V]."""
+        from scipy import signal
+
         out = np.zeros((self.streams, n))
         for item in self.filters:
             sos, scale, zi = item

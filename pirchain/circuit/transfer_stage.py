@@ -4,16 +4,18 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
-import control
 import numpy as np
-from scipy import signal
 
 from ..errors import DesignError
 from .noise import amplifier_sources
 from .opamp import OpAmp
 from .rails import Section, StateModel
 from .stage import Stage
+
+if TYPE_CHECKING:  # python-control loads on first use (start-up time)
+    import control
 
 
 def _canonical(num, den) -> tuple[np.ndarray, np.ndarray, np.ndarray, float]:
@@ -71,6 +73,8 @@ class TransferStage(Stage):
 
     def transfer_function(self, gbw: bool = False) -> control.TransferFunction:
         """The given H(s)."""
+        import control
+
         return control.tf(list(self.num), list(self.den))
 
     def state_model(self, pinned=None) -> StateModel:
@@ -82,6 +86,8 @@ class TransferStage(Stage):
 
     def sections(self) -> tuple[Section, ...]:
         """H as a cascade of ≤ 2-pole sections; only the last is limited by the op-amp."""
+        from scipy import signal
+
         z, p, k = signal.tf2zpk(
             np.trim_zeros(np.asarray(self.num), "f"), np.trim_zeros(np.asarray(self.den), "f")
         )

@@ -134,6 +134,9 @@ def build_parser() -> argparse.ArgumentParser:
         help="HTML file (default: pirchain-report.html, never overwritten)",
     )
     sp.add_argument("--force", action="store_true", help="replace an existing file")
+    sp.add_argument(
+        "--quick", action="store_true", help="fewer trials, coarser grids (uncertainty shown)"
+    )
     cli_production.add_parsers(add)
     cli_calibration.add_parsers(add)
     cli_two_wire.add_parsers(add)
@@ -510,13 +513,17 @@ def cmd_netlist(args):
 
 
 def cmd_report(args):
-    from .report import compute, render
+    from .report import compute, quick_design, quick_note, render
 
     args.output = args.output if args.output is not None else free_name("pirchain-report", ".html")
     _outputs(args, "--output")
     d = _design(args)
+    if getattr(args, "quick", False):
+        d = quick_design(d)
     out = args.output
     data = compute(d, Progress("report", True if args.progress else None))
+    if getattr(args, "quick", False):
+        data["quick"] = data["numbers"]["quick"] = quick_note(d)
     write_new(out, render(d, data), args.force)
     _emit(
         args,

@@ -5,6 +5,7 @@ from __future__ import annotations
 import base64
 import datetime
 import html
+import math
 import os
 import warnings
 
@@ -101,6 +102,38 @@ def sample_walk_distance(det, walk_distance: float) -> float:
         return walk_distance
     ground = det.mount.height / np.tan(-down)
     return float(min(walk_distance, np.median(ground)))
+
+
+QUICK = {"trials": 2, "refine": 2, "step": 3.0, "coverage_cell": 2.0, "coverage_trials": 1}
+QUICK_SWEEP = 3  # sensitivity values of a quick report
+
+
+def quick_design(design):
+    """The design with the quick report's settings (:data:`QUICK`): fewer trials, a coarser
+    distance grid and coverage grid, three sweep values; the walks, the physics and every
+    section stay the same."""
+    import dataclasses
+
+    a = design.analysis
+    values = a.sensitivity_values or tuple(log_values(50e3, 1e6, 6))
+    keep = tuple(values[i] for i in sorted({0, len(values) // 2, len(values) - 1}))
+    quick = dataclasses.replace(a, **QUICK, sensitivity_values=keep[:QUICK_SWEEP])
+    return dataclasses.replace(design, analysis=quick)
+
+
+def quick_note(design) -> str:
+    """What a quick report's settings resolve: the trial count, the binomial spread of
+    P(detect) at the level and the distance resolution."""
+    a = design.analysis
+    p = a.level
+    half = 1.96 * math.sqrt(p * (1 - p) / a.trials)
+    return (
+        f"Quick report: {a.trials} walks per distance (P(detect) at the {p:g} level known to "
+        f"± {half:.2f} from the walks alone), distances on a {a.step:g} m grid refined "
+        f"{a.refine} times (± {a.step / 2**a.refine:.2g} m), coverage on {a.coverage_cell:g} m "
+        f"cells with {a.coverage_trials} walk each, {len(a.sensitivity_values)} sweep values. "
+        "Use it to iterate; the full report decides."
+    )
 
 
 def compute(design, progress=None) -> dict:
@@ -270,6 +303,7 @@ def render(design, data: dict) -> str:
         f"<h1>pirchain report: <bdi>{name}</bdi></h1>",
         f"<p>Generated {_today()} by pirchain {__version__}.</p>",
         f"<p class='caution'><b>Caution.</b> {_esc(CAUTIONS)}</p>",
+        *([f"<p class='caution'>{_esc(data['quick'])}</p>"] if data.get("quick") else []),
         "<h2>Design summary</h2>",
         _table(("item", "value"), summary),
         "<h2>Schematic</h2>",

@@ -14,8 +14,11 @@ imports the kernels except :mod:`pirchain.chain`.
 Compiled code is cached on disk, keyed by a fingerprint of every source file the pass is
 compiled from (numba itself checks only each function's own file, which would let a
 changed rule in another module load stale machine code): ``$PIRCHAIN_CACHE_DIR``, else
-``$XDG_CACHE_HOME/pirchain``, else ``~/.cache/pirchain``. If none can be written numba
-falls back to its own locations, and compiles in memory as a last resort.
+``$XDG_CACHE_HOME/pirchain``, else ``~/.cache/pirchain``, in a folder named by the
+fingerprint, which is also the cache's freshness stamp: a reinstall of the same sources, or
+an install in another environment, loads the compiled code instead of compiling again. If
+the folder cannot be written numba falls back to its own locations (next to the sources)
+and compiles in memory as a last resort, with a one-line note.
 """
 
 import hashlib
@@ -24,6 +27,7 @@ import sys
 from pathlib import Path
 
 import numba
+from numba.core import caching as _caching
 
 _ROOT = Path(__file__).resolve().parent.parent
 #: Every source the compiled pass is built from (checked by the tests against the imports).
@@ -63,9 +67,53 @@ def cache_dir() -> str:
     return os.path.join(base, f"kernels-{fingerprint()}")
 
 
-_previous = numba.config.CACHE_DIR
-numba.config.CACHE_DIR = cache_dir()
-try:
-    from . import chain, logic, optics, sensor, stages  # noqa: F401  (decorated under it)
-finally:
-    numba.config.CACHE_DIR = _previous
+class _ContentKeyedLocator(_caching._CacheLocator):
+    """Numba's cache locator for these kernels: one folder per :func:`fingerprint`, and the
+    fingerprint as the sources' freshness stamp. Numba's own locators stamp a cache with the
+    source file's modification time and key it by the file's absolute folder, so a reinstall
+    (new file times) or another virtual environment would compile everything again; the
+    fingerprint already covers every source, the Python and the numba version."""
+
+    def __init__(self, py_func, path):
+        self._lineno = py_func.__code__.co_firstlineno
+        self._path = path
+
+    def get_cache_path(self):
+        return self._path
+
+    def get_source_stamp(self):
+        return _FINGERPRINT
+
+    def get_disambiguator(self):
+        return str(self._lineno)
+
+    @classmethod
+    def from_function(cls, py_func, py_file):
+        if os.path.dirname(os.path.abspath(py_file)) != str(_ROOT / "kernels"):
+            return None
+        self = cls(py_func, _CACHE)
+        try:
+            self.ensure_cache_path()
+        except OSError:
+            _note_once()
+            return None  # numba's own locators next; in memory when none can write
+        return self
+
+
+def _note_once():
+    global _NOTED
+    if not _NOTED:
+        _NOTED = True
+        print(
+            f"pirchain: note: no writable cache folder ({_CACHE}); the numerical kernels "
+            "are compiled for this run only (set PIRCHAIN_CACHE_DIR)",
+            file=sys.stderr,
+        )
+
+
+_FINGERPRINT = fingerprint()
+_CACHE = cache_dir()
+_NOTED = False
+if _ContentKeyedLocator not in _caching.CacheImpl._locator_classes:
+    _caching.CacheImpl._locator_classes.insert(0, _ContentKeyedLocator)
+from . import chain, logic, optics, power_stage, sensor, stages  # noqa: E402, F401

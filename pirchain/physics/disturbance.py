@@ -26,12 +26,15 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
-import control
 import numpy as np
 
 from ..errors import DesignError, check_nonnegative, check_positive, check_range
 from .radiometry import band_exitance_derivative
+
+if TYPE_CHECKING:  # python-control loads on first use (start-up time)
+    import control
 
 
 @dataclass(frozen=True)
@@ -171,6 +174,8 @@ def draught_parts(detector, env, draught: Draught):
 
 def draught_transfer(detector, draught: Draught) -> control.TransferFunction:
     """Shaping from white noise (level 4σ²τ_c) to the comparator input: 1/(1+sτ_c) × H_chain."""
+    import control
+
     return control.tf([1.0], [draught.correlation_time, 1.0]) * detector.transfer_function(True)
 
 

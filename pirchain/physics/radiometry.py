@@ -16,19 +16,21 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from scipy import constants
 from scipy.special import bernoulli, factorial
 
 from ..errors import DesignError, check_array
+from .constants import K_B, C, H
+from .constants import SIGMA as STEFAN_BOLTZMANN
+from .constants import ZERO_CELSIUS as _ZERO_C
 
 #: Second radiation constant c2 = h c / k [m K].
-C2 = constants.h * constants.c / constants.k
+C2 = H * C / K_B
 #: First radiation constant for spectral exitance c1 = 2 π h c² [W m²].
-C1 = 2.0 * math.pi * constants.h * constants.c**2
+C1 = 2.0 * math.pi * H * C**2
 #: Stefan–Boltzmann constant [W m⁻² K⁻⁴].
-SIGMA = constants.sigma
+SIGMA = STEFAN_BOLTZMANN
 #: Kelvin offset of the Celsius scale [K].
-ZERO_CELSIUS = constants.zero_Celsius
+ZERO_CELSIUS = _ZERO_C
 
 _FRACTION_NORM = 15.0 / math.pi**4
 # Series for small ζ = c2/(λT): ∫0^ζ x³/(eˣ−1) dx = Σ B_n ζ^(n+3) / ((n+3) n!), |ζ| < 2π.

@@ -39,14 +39,17 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, replace
+from typing import TYPE_CHECKING
 
-import control
 import numpy as np
-from scipy import constants, signal
 
 from ..errors import DesignError, check_choice, check_positive, check_range
+from .constants import EPSILON_0
 
-EPS0 = constants.epsilon_0
+if TYPE_CHECKING:  # python-control loads on first use (start-up time)
+    import control
+
+EPS0 = EPSILON_0
 REFERENCE_K = 298.15  # part values are given at 25 °C [K]
 CURIE_MARGIN = 2.0  # K below T_C where the mean-field law stops being usable
 
@@ -456,12 +459,16 @@ class PyroSensor:
 
     def transfer_function(self) -> control.TransferFunction:
         """V_gate(s) / P_eq(s) as a python-control transfer function [V W⁻¹]."""
+        import control
+
         tt, te = self.thermal_time_constant, self.electrical_time_constant
         k = self.current_responsivity * tt * self.gate_resistance
         return control.tf([k, 0.0], np.polymul([tt, 1.0], [te, 1.0]))
 
     def sos(self, sample_rate: float) -> np.ndarray:
         """Discrete second-order sections of V_gate/P_eq (bilinear transform)."""
+        from scipy import signal
+
         fs = check_positive("sample_rate", sample_rate, "Hz")
         tt, te = self.thermal_time_constant, self.electrical_time_constant
         k = self.current_responsivity * self.gate_resistance / te
@@ -470,6 +477,8 @@ class PyroSensor:
 
     def current_sos(self, sample_rate: float) -> np.ndarray:
         """Sections of the gate-source current i_eq / P_eq = R_I τ_T s / (1 + s τ_T) [A W⁻¹]."""
+        from scipy import signal
+
         fs = check_positive("sample_rate", sample_rate, "Hz")
         tt = self.thermal_time_constant
         z, p, g = signal.bilinear_zpk([0.0], [-1.0 / tt], self.current_responsivity, fs)
@@ -492,6 +501,8 @@ def gate_current(sensor: PyroSensor, p_eq, sample_rate: float, steady_start: boo
     steady_start : bool
         Treat the first sample's power as having been there for ever.
     """
+    from scipy import signal
+
     p_eq = np.asarray(p_eq, dtype=float)
     if steady_start:
         p_eq = p_eq - p_eq[..., :1]

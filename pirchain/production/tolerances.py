@@ -20,7 +20,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..analysis.sweep import check_sweep_path, get_path, set_path
+from ..analysis.paths import check_sweep_path, get_path, set_path
 from ..errors import DesignError
 from ..signoff import GROUPS, Tolerance
 
