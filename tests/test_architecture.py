@@ -195,3 +195,31 @@ def test_light_commands_load_neither_the_compiler_nor_the_plotting_library():
             out = subprocess.run([sys.executable, "-c", code, *args], capture_output=True,
                                  text=True, check=True)  # fmt: skip
             assert out.stdout.strip().splitlines()[-1] == "[]", (args, out.stdout[-300:])
+
+
+def test_stale_kernel_caches_of_other_versions_are_pruned_and_fresh_ones_kept(tmp_path):
+    # issue 17: a folder per source fingerprint; one unused for STALE_DAYS is removed when a
+    # new one is made, a recently used one (another environment's version) and ours stay
+    import os
+
+    from pirchain import kernels
+
+    now = 2_000_000_000.0
+    day = 86400.0
+    folders = {"kernels-old": now - (kernels.STALE_DAYS + 1) * day,
+               "kernels-recent": now - (kernels.STALE_DAYS - 1) * day,
+               "kernels-ours": now - 400 * day, "notours-old": now - 400 * day}  # fmt: skip
+    for name, when in folders.items():
+        (tmp_path / name).mkdir()
+        (tmp_path / name / "f.nbi").write_bytes(b"x")
+        for p in (tmp_path / name / "f.nbi", tmp_path / name):
+            os.utime(p, (when, when))
+    # a new file in an old folder means it is still used
+    (tmp_path / "kernels-old2").mkdir()
+    (tmp_path / "kernels-old2" / "new.nbc").write_bytes(b"x")
+    os.utime(tmp_path / "kernels-old2", (now - 400 * day,) * 2)
+    os.utime(tmp_path / "kernels-old2" / "new.nbc", (now - day,) * 2)
+    removed = kernels.prune_stale(str(tmp_path), str(tmp_path / "kernels-ours"), now=now)
+    assert [os.path.basename(p) for p in removed] == ["kernels-old"]
+    left = sorted(p.name for p in tmp_path.iterdir())
+    assert left == ["kernels-old2", "kernels-ours", "kernels-recent", "notours-old"]

@@ -142,6 +142,7 @@ def detection_range(
     kind: str = "tangential",
     settings: AnalysisSettings | None = None,
     jitter: float | None = None,
+    sources=None,
 ) -> RangeResult:
     """Detection range on one bearing (grid + bisection), with the noise-free range beside it.
 
@@ -164,6 +165,9 @@ def detection_range(
         ``noise`` and ``sample_rate`` are used; default :class:`AnalysisSettings()`.
     jitter : float, optional
         Angular spread of the walk positions [rad]; default one beam pitch.
+    sources : list of NoiseSource, optional
+        The noise at the comparator input (default :func:`comparator_sources` of the
+        detector in ``env``); pass them when several ranges share one design.
 
     Returns
     -------
@@ -187,7 +191,9 @@ def detection_range(
         "analysis.trials × distances × sample_rate",
         grid.size * s.trials * (2 if s.noise else 1) * walk_samples * (1 + s.refine / grid.size),
     )
-    src = comparator_sources(detector, env) if s.noise else None
+    src = None
+    if s.noise:
+        src = comparator_sources(detector, env) if sources is None else sources
     kw = dict(
         bearing_deg=bearing_deg,
         speed=speed,
@@ -258,12 +264,14 @@ def range_table(design, kinds=("tangential", "radial"), bearings=None, progress=
     bearings = design.analysis.bearings if bearings is None else tuple(bearings)
     out = []
     n = len(kinds) * len(bearings)
+    det, env = design.operating, design.environment
+    src = comparator_sources(det, env) if design.analysis.noise else None
     for kind in kinds:
         for b in bearings:
             out.append(
                 detection_range(
-                    design.operating, design.target, design.environment, float(b),
-                    design.speed, kind, design.analysis,
+                    det, design.target, env, float(b), design.speed, kind, design.analysis,
+                    sources=src,
                 )
             )  # fmt: skip
             if progress is not None:

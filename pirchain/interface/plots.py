@@ -10,8 +10,10 @@ import matplotlib
 
 matplotlib.use("Agg")
 import matplotlib.pyplot as plt  # noqa: E402
+import matplotlib.ticker  # noqa: E402
 import numpy as np  # noqa: E402
 
+from ..units import format_eng  # noqa: E402
 from .output import terminal_text  # noqa: E402
 
 plt.rcParams.update(
@@ -32,8 +34,29 @@ def plain(text: str) -> str:
     return terminal_text(str(text)).replace("$", r"\$")
 
 
+class EngLogFormatter(matplotlib.ticker.LogFormatter):
+    """Log-axis tick labels in plain text: 0.001 … 1000 as decimals, beyond in engineering
+    notation (10k, 1M, 10n). Matplotlib's default writes powers of ten as formulas, and
+    typesetting them was a third of the time spent on the report's figures."""
+
+    def _num_to_string(self, x, vmin, vmax):
+        return f"{x:g}" if 1e-3 <= x < 1e4 else format_eng(x)
+
+
+def plain_log_ticks(fig) -> None:
+    """Put :class:`EngLogFormatter` on every log-scaled axis of a figure."""
+    for ax in fig.axes:
+        for axis in (ax.xaxis, ax.yaxis):
+            if axis.get_scale() == "log":
+                axis.set_major_formatter(EngLogFormatter())
+                axis.set_minor_formatter(
+                    EngLogFormatter(labelOnlyBase=False, minor_thresholds=(2, 0.4))
+                )
+
+
 def png_bytes(fig) -> bytes:
-    """Render a figure to PNG bytes and close it."""
+    """Render a figure to PNG bytes (log axes labelled in plain text) and close it."""
+    plain_log_ticks(fig)
     buf = io.BytesIO()
     fig.savefig(buf, format="png")
     plt.close(fig)

@@ -15,8 +15,10 @@ Compiled code is cached on disk, keyed by a fingerprint of every source file the
 compiled from (numba itself checks only each function's own file, which would let a
 changed rule in another module load stale machine code): ``$PIRCHAIN_CACHE_DIR``, else
 ``$XDG_CACHE_HOME/pirchain``, else ``~/.cache/pirchain``, in a folder named by the
-fingerprint, which is also the cache's freshness stamp: a reinstall of the same sources, or
-an install in another environment, loads the compiled code instead of compiling again. If
+fingerprint, which is also the cache's freshness stamp: the same sources installed in
+another place (another environment) load the compiled code instead of compiling again.
+Folders of other fingerprints unused for :data:`STALE_DAYS` days are removed when a new one
+is made (other versions in other environments keep theirs while they are used). If
 the folder cannot be written numba falls back to its own locations (next to the sources)
 and compiles in memory as a last resort, with a one-line note.
 """
@@ -58,6 +60,39 @@ def fingerprint() -> str:
     return h.hexdigest()[:16]
 
 
+STALE_DAYS = 30  #: a cache folder of another fingerprint unused this long is removed
+
+
+def prune_stale(base: str, keep: str, now: float | None = None) -> list[str]:
+    """Remove ``kernels-*`` folders in ``base`` other than ``keep`` whose newest file is
+    older than :data:`STALE_DAYS` days; returns the removed paths. Errors are ignored (a
+    folder in use by another process, or not ours to remove, stays)."""
+    import shutil
+    import time
+
+    now = time.time() if now is None else now
+    removed = []
+    try:
+        names = os.listdir(base)
+    except OSError:
+        return removed
+    for name in names:
+        path = os.path.join(base, name)
+        if not name.startswith("kernels-") or path == keep or os.path.islink(path):
+            continue
+        try:
+            newest = max(
+                [os.path.getmtime(path)]
+                + [e.stat().st_mtime for e in os.scandir(path) if e.is_file()]
+            )
+        except OSError:
+            continue
+        if now - newest > STALE_DAYS * 86400:
+            shutil.rmtree(path, ignore_errors=True)
+            removed.append(path)
+    return removed
+
+
 def cache_dir() -> str:
     """Where the compiled kernels are cached."""
     base = os.environ.get("PIRCHAIN_CACHE_DIR")
@@ -69,10 +104,10 @@ def cache_dir() -> str:
 
 class _ContentKeyedLocator(_caching._CacheLocator):
     """Numba's cache locator for these kernels: one folder per :func:`fingerprint`, and the
-    fingerprint as the sources' freshness stamp. Numba's own locators stamp a cache with the
-    source file's modification time and key it by the file's absolute folder, so a reinstall
-    (new file times) or another virtual environment would compile everything again; the
-    fingerprint already covers every source, the Python and the numba version."""
+    fingerprint as the sources' freshness stamp. Numba's own locators key a cache by the
+    source file's absolute folder, so the same version installed in another place (a new
+    virtual environment, a user install beside a system one) would compile everything again;
+    the fingerprint already covers every source, the Python and the numba version."""
 
     def __init__(self, py_func, path):
         self._lineno = py_func.__code__.co_firstlineno
@@ -93,6 +128,8 @@ class _ContentKeyedLocator(_caching._CacheLocator):
             return None
         self = cls(py_func, _CACHE)
         try:
+            if not os.path.isdir(_CACHE):  # a new fingerprint: old ones may be stale
+                prune_stale(os.path.dirname(_CACHE), _CACHE)
             self.ensure_cache_path()
         except OSError:
             _note_once()
