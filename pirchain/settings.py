@@ -32,6 +32,11 @@ def _count(field: str, value, low: int, high: int) -> int:
     return value
 
 
+#: Walking directions of tangential test walks: both ways in equal numbers, or one way only
+#: ("ccw": counter-clockwise seen from above, towards larger bearings; "cw": the other way).
+WALK_DIRECTIONS = ("both", "ccw", "cw")
+
+
 @dataclass(frozen=True)
 class AnalysisSettings:
     """How the analyses run: sampling, trial counts, grids, seeds and budgets.
@@ -69,6 +74,10 @@ class AnalysisSettings:
         Walks per coverage cell.
     coverage_speed : float
         Walking speed of the coverage map [m s⁻¹] (1.22 m/s: NEMA WD 7-2011).
+    walk_direction : {"both", "ccw", "cw"}
+        Which way the tangential walks of ranges and coverage maps go: both ways in equal
+        numbers (default; the set of walks is then mirror-symmetric), or only
+        counter-clockwise seen from above (towards larger bearings), or only clockwise.
     settle_duration : float
         Length of the power-up simulation [s].
     settle_sample_rate : float
@@ -93,6 +102,7 @@ class AnalysisSettings:
     coverage_x_max: float = 16.0
     coverage_trials: int = 2
     coverage_speed: float = 1.22
+    walk_direction: str = "both"
     settle_duration: float = 120.0
     settle_sample_rate: float = 50.0
 
@@ -134,6 +144,10 @@ class AnalysisSettings:
             )
         _count(f + "coverage_trials", self.coverage_trials, 1, 10_000)
         check_range(f + "coverage_speed", self.coverage_speed, *WALK_SPEED_RANGE, "m/s")
+        if not isinstance(self.walk_direction, str) or self.walk_direction not in WALK_DIRECTIONS:
+            raise DesignError(
+                f + "walk_direction", self.walk_direction, "one of " + ", ".join(WALK_DIRECTIONS)
+            )
         check_range(f + "settle_duration", self.settle_duration, 0.1, 1e5, "s")
         check_range(f + "settle_sample_rate", self.settle_sample_rate, 1.0, 1e4, "Hz")
 

@@ -19,7 +19,14 @@ noise 11.56 → 12.67 mV, the threshold for one false trigger per year 54.2 → 
 and JFET flicker noise, the gate lifted 23 mV by that leakage, 1 mV op-amp offsets and C1
 leakage moving the rest levels (0.9327 → 0.9490 / 0.9523 / 1.6540 V), the parts at the
 room's 21 °C instead of as written, and the ambient section of the report; ranges moved by
-at most one bisection step (≤ 0.56 m radial, ≤ 0.28 m tangential).
+at most one bisection step (≤ 0.56 m radial, ≤ 0.28 m tangential). Re-recorded for issue
+18 (walk tests independent of walking direction): tangential range walks go both ways in
+turn instead of all counter-clockwise, and map walks are mirrored across the boresight, so
+the demo's noise-free tangential range at −50° / +50° went from 20.09 / 14.28 m to 14.47 /
+14.47 m (−30° / +30°: 20.38 / 19.81 → 19.53 / 20.00 m; −15° / +15°: 20.00 / 19.91 →
+19.72 / 19.72 m), the sweep's ranges moved by at most 0.38 m, radial ranges are unchanged,
+the API record's maps changed cell by cell (new positions), and `walk_direction` (range)
+and `direction` (walk) were added to the JSON.
 
 Comparison: strings, booleans and integers exactly; floating-point numbers within a
 relative 1e-9 (rounding differences of reordered sums, orders above 1e-16 and far below any

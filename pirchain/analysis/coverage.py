@@ -2,9 +2,12 @@
 and distance (side view).
 
 Top view: for every cell a standard walk (tangential or radial to the detector, by default
-twice the cell long, at the protocol speed) passes through the cell at ``trials`` random
-positions inside it; the share that turns the output on is the cell's probability. Walks run
-in chunks, so memory stays bounded however many cells there are.
+twice the cell long, at the protocol speed) passes through the cell at ``trials`` seeded
+random positions inside it, tangential walks both ways in turn; the share that turns the
+output on is the cell's probability. The rows lie symmetrically about the boresight and the
+positions and directions of one side are the mirror images of the other's, so a
+mirror-symmetric design gives a mirror-symmetric map (:func:`mirrored_trials`). Walks run in
+chunks, so memory stays bounded however many cells there are.
 """
 
 from __future__ import annotations
@@ -17,7 +20,7 @@ import numpy as np
 from ..errors import DesignError, check_positive, warnings_once
 from ..settings import AnalysisSettings, check_work
 from .false_triggers import comparator_sources
-from .walk_tests import WalkSet, detect, walk_heading
+from .walk_tests import WalkSet, detect, trial_directions, walk_heading
 
 
 @dataclass(frozen=True)
@@ -74,6 +77,92 @@ def diameter_from_ranges(results) -> float | None:
     return 2.0 * float(radius)
 
 
+def mirror_rows(y_max: float, cell: float) -> np.ndarray:
+    """Row centres across the boresight [m]: as many whole cells as fit in ±``y_max``,
+    placed symmetrically about the boresight (y → −y maps the rows onto each other)."""
+    n = max(int(math.floor(2.0 * y_max / cell + 1e-9)), 1)
+    return (np.arange(n) - 0.5 * (n - 1)) * cell
+
+
+def mirrored_trials(rows: int, cols: int, trials: int, seed: int, direction: str):
+    """Walk positions inside each cell and walking directions, mirror-symmetric across rows.
+
+    The offsets (fractions of a cell, uniform in ±½, seeded) are drawn for the rows on one
+    side of the boresight; the rows on the other side take the same draws mirrored (y offset
+    and, with ``direction`` "both", the walking direction change sign), and in a row on the
+    boresight itself trial 2m + 1 is the mirror image of trial 2m. With "both" the
+    directions alternate from trial to trial and cell to cell, so a mirror-symmetric design
+    gives a mirror-symmetric noise-free map for any seed.
+
+    Returns
+    -------
+    ox, oy : numpy.ndarray, shape (rows, cols, trials)
+        Offsets along x and y [cells].
+    sense : numpy.ndarray of int8, shape (rows, cols, trials)
+        +1 counter-clockwise, −1 clockwise.
+    """
+    rng = np.random.default_rng(seed)
+    half = (rows + 1) // 2  # rows on one side, the boresight row (odd count) first
+    ox = rng.uniform(-0.5, 0.5, (half, cols, trials))
+    oy = rng.uniform(-0.5, 0.5, (half, cols, trials))
+    k = np.arange(trials)
+    if direction == "both":
+        parity = k[None, None, :] + np.arange(cols)[None, :, None] + np.arange(half)[:, None, None]
+        sense = np.where(parity % 2 == 0, 1, -1).astype(np.int8)
+    else:
+        sense = np.broadcast_to(trial_directions(trials, direction), (half, cols, trials))
+    if rows % 2:  # the boresight row mirrors onto itself: trials in mirror pairs
+        odd = k[k % 2 == 1]
+        ox[0][:, odd] = ox[0][:, odd - 1]
+        oy[0][:, odd] = -oy[0][:, odd - 1]
+    j = np.arange(rows)
+    canon = np.maximum(j, rows - 1 - j) - rows // 2
+    lower = (j < rows - 1 - j)[:, None, None]
+    flip = np.where(lower & (direction == "both"), -1, 1).astype(np.int8)
+    return ox[canon], np.where(lower, -oy[canon], oy[canon]), sense[canon] * flip
+
+
+def coverage_walks(detector, kind, settings, y_max=None, walk_length=None):
+    """The cells and the walks of a top-view map (:func:`top_view` documents the arguments).
+
+    Returns
+    -------
+    x, y : numpy.ndarray
+        Cell centres [m]; the rows ``y`` are symmetric about the boresight.
+    walks : WalkSet
+        ``settings.coverage_trials`` walks per cell, cell by cell (rows outer), positions and
+        directions by :func:`mirrored_trials`.
+    """
+    s = settings
+    if kind not in ("tangential", "radial"):
+        raise DesignError("coverage.kind", kind, "'tangential' or 'radial'")
+    cell, x_max, trials = s.coverage_cell, s.coverage_x_max, s.coverage_trials
+    y_max = x_max if y_max is None else check_positive("coverage.y_max", y_max, "m")
+    wall = detector.mount.kind == "wall"
+    x = np.arange(cell / 2 if wall else -x_max + cell / 2, x_max, cell)
+    y = mirror_rows(y_max, cell)
+    length = 2.0 * cell if walk_length is None else float(walk_length)
+    check_work(  # before any array of walks is made
+        "analysis.coverage_cell × coverage_trials × sample_rate",
+        x.size * y.size * trials * (length / s.coverage_speed + 2.5) * s.sample_rate,
+    )
+    gx, gy = np.meshgrid(x, y)
+    ox, oy, sense = mirrored_trials(y.size, x.size, trials, s.seed, s.walk_direction)
+    cx = np.repeat(gx.ravel(), trials) + ox.ravel() * cell
+    cy = np.repeat(gy.ravel(), trials) + oy.ravel() * cell
+    sense = sense.ravel() if kind == "tangential" else np.zeros(cx.size, np.int8)
+    rho = np.maximum(np.hypot(cx, cy), 0.05)
+    los = np.stack([cx / rho, cy / rho], axis=1)
+    walks = WalkSet(
+        np.stack([cx, cy], axis=1),
+        walk_heading(los, kind, sense),
+        np.full(cx.size, float(s.coverage_speed)),
+        length,
+        np.ascontiguousarray(sense),
+    )
+    return x, y, walks
+
+
 @warnings_once()
 def top_view(
     detector,
@@ -119,42 +208,20 @@ def top_view(
 
     Notes
     -----
-    Each cell gets ``settings.coverage_trials`` walks through random points inside it,
-    run through the whole chain with seeded noise at the comparator input when
-    ``settings.noise``; the cell's probability is the share that turns the output on.
+    Each cell gets ``settings.coverage_trials`` walks through seeded random points inside
+    it, mirrored across the boresight (:func:`mirrored_trials`), walking the ways
+    ``settings.walk_direction`` says (:func:`coverage_walks`), run through the whole chain
+    with seeded noise at the comparator input when ``settings.noise``; the cell's
+    probability is the share that turns the output on.
     """
     s = AnalysisSettings() if settings is None else settings
-    if kind not in ("tangential", "radial"):
-        raise DesignError("coverage.kind", kind, "'tangential' or 'radial'")
-    cell, x_max, trials = s.coverage_cell, s.coverage_x_max, s.coverage_trials
-    y_max = x_max if y_max is None else check_positive("coverage.y_max", y_max, "m")
-    wall = detector.mount.kind == "wall"
-    x = np.arange(cell / 2 if wall else -x_max + cell / 2, x_max, cell)
-    y = np.arange(-y_max + cell / 2, y_max, cell)
-    gx, gy = np.meshgrid(x, y)
-    cx, cy = gx.ravel(), gy.ravel()
-    rng = np.random.default_rng(s.seed)
-    cx = np.repeat(cx, trials) + rng.uniform(-0.5, 0.5, cx.size * trials) * cell
-    cy = np.repeat(cy, trials) + rng.uniform(-0.5, 0.5, cy.size * trials) * cell
-    rho = np.maximum(np.hypot(cx, cy), 0.05)
-    los = np.stack([cx / rho, cy / rho], axis=1)
-    head = walk_heading(los, kind)
-    walks = WalkSet(
-        np.stack([cx, cy], axis=1),
-        head,
-        np.full(cx.size, float(s.coverage_speed)),
-        2.0 * cell if walk_length is None else float(walk_length),
-    )
-    check_work(
-        "analysis.coverage_cell × coverage_trials × sample_rate",
-        cx.size * (walks.length / s.coverage_speed + 2.5) * s.sample_rate,
-    )
+    x, y, walks = coverage_walks(detector, kind, s, y_max, walk_length)
     src = comparator_sources(detector, env) if s.noise else None
     hit, _ = detect(
         detector, target, env, walks, s.sample_rate, src, s.seed, chunk, progress=progress
     )
-    prob = hit.reshape(gy.size, trials).mean(axis=1).reshape(gy.shape)
-    return CoverageMap(x, y, prob, kind, float(s.coverage_speed), int(cx.size))
+    prob = hit.reshape(y.size * x.size, s.coverage_trials).mean(axis=1).reshape(y.size, x.size)
+    return CoverageMap(x, y, prob, kind, float(s.coverage_speed), int(hit.size))
 
 
 @dataclass(frozen=True)

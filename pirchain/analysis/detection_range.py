@@ -1,14 +1,16 @@
 """Detection range per bearing: the farthest distance where P(detect) ≥ a level.
 
 P(detect) at a distance is the share of ``trials`` test walks, at positions spread evenly
-over one beam pitch and with seeded noise, that turn the output on. The range is found on a
-distance grid, then refined by bisection between the farthest grid point that passes and
-the next; distances below the range that fail (walks too fast close in, too slow far out,
-or holes between zones) are reported as gaps rather than smoothed over.
+over one beam pitch (tangential walks both ways in turn) and with seeded noise, that turn
+the output on. The range is found on a distance grid, then refined by bisection between the
+farthest grid point that passes and the next; distances below the range that fail (walks
+too fast close in, too slow far out, or holes between zones) are reported as gaps rather
+than smoothed over.
 """
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 
 import numpy as np
@@ -50,6 +52,14 @@ class RangeResult:
         Analog sample rate of the walks [Hz].
     trials : int
         Walks per distance.
+    walk_direction : str
+        Which way the tangential walks went ("both", "ccw", "cw"; see
+        :data:`pirchain.settings.WALK_DIRECTIONS`).
+    probability_by_direction : dict of str to numpy.ndarray
+        P(detect) on the grid of the walks of each direction ("ccw", "cw"; "radial" for
+        radial walks), noise as in ``probability``: at one bearing of a mirror-symmetric
+        design the two differ only through the chain's own time order (the high-pass
+        sections and the pulse rules see a walk and its time reverse differently).
     """
 
     bearing_deg: float
@@ -64,6 +74,8 @@ class RangeResult:
     gaps: tuple[tuple[float, float], ...]
     sample_rate: float
     trials: int
+    walk_direction: str = "both"
+    probability_by_direction: dict = dataclasses.field(default_factory=dict)
 
 
 def probability_of_detection(
@@ -81,6 +93,8 @@ def probability_of_detection(
     sample_rate=100.0,
     sources=None,
     jitter=None,
+    direction="both",
+    by_direction=False,
 ):
     """P(detect) for each broadcast combination of distance, bearing and speed.
 
@@ -108,11 +122,18 @@ def probability_of_detection(
         The noise sources (default: :func:`comparator_sources`).
     jitter : float, optional
         Angular spread of start positions [rad]; default one beam pitch.
+    direction : {"both", "ccw", "cw"}
+        Which way tangential walks go (:func:`pirchain.analysis.walk_tests.trial_directions`).
+    by_direction : bool
+        Also return P(detect) of each walking direction separately.
 
     Returns
     -------
     numpy.ndarray
         P(detect), the broadcast shape.
+    dict of str to numpy.ndarray
+        Only with ``by_direction``: P(detect) of the walks of each direction ("ccw", "cw",
+        or "radial"), the broadcast shape.
     """
     d, b, v = np.broadcast_arrays(
         np.atleast_1d(np.asarray(distances, float)),
@@ -120,12 +141,20 @@ def probability_of_detection(
         np.asarray(speed, float),
     )
     jit = beam_pitch(detector) if jitter is None else jitter
-    walks = make_walks(d, b, v, kind, length, trials, jit)
+    walks = make_walks(d, b, v, kind, length, trials, jit, direction)
     src = None
     if noise:
         src = comparator_sources(detector, env) if sources is None else sources
     hit, _ = detect(detector, target, env, walks, sample_rate, src, seed)
-    return hit.reshape(d.size, trials).mean(axis=1).reshape(d.shape)
+    hit = hit.reshape(d.size, trials)
+    p = hit.mean(axis=1).reshape(d.shape)
+    if not by_direction:
+        return p
+    sense = walks.direction[:trials]
+    names = {1: "ccw", -1: "cw", 0: "radial"}
+    split = {names[int(w)]: hit[:, sense == w].mean(axis=1).reshape(d.shape)
+             for w in np.unique(sense)}  # fmt: skip
+    return p, split
 
 
 def _farthest(prob, level):
@@ -177,9 +206,13 @@ def detection_range(
 
     Notes
     -----
-    P(detect) at each distance is estimated from ``settings.trials`` walks 3 m long at random
-    positions within one beam-pattern period (:func:`pirchain.analysis.walk_tests.make_walks`),
-    run through the whole chain with seeded noise at the comparator input. The range is the
+    P(detect) at each distance is estimated from ``settings.trials`` walks 3 m long at
+    positions spread evenly over one beam-pattern period, tangential ones walked both ways in
+    turn unless ``settings.walk_direction`` says one way
+    (:func:`pirchain.analysis.walk_tests.make_walks`), run through the whole chain with
+    seeded noise at the comparator input. The positions are fixed (not drawn), so the
+    noise-free range depends on the design and the settings alone, never on the seed, and a
+    mirror-symmetric design gives the same noise-free range at ±bearing. The range is the
     farthest grid distance that meets the level, refined by ``settings.refine`` bisection
     steps towards the next grid distance.
     """
@@ -202,13 +235,17 @@ def detection_range(
         seed=s.seed,
         sample_rate=s.sample_rate,
         jitter=jitter,
+        direction=s.walk_direction,
     )
-    p_free = probability_of_detection(detector, target, env, grid, noise=False, **kw)
-    p = (
-        probability_of_detection(detector, target, env, grid, noise=True, sources=src, **kw)
-        if s.noise
-        else p_free
+    p_free, split = probability_of_detection(
+        detector, target, env, grid, noise=False, by_direction=True, **kw
     )
+    if s.noise:
+        p, split = probability_of_detection(
+            detector, target, env, grid, noise=True, sources=src, by_direction=True, **kw
+        )
+    else:
+        p = p_free
 
     def refined(prob, use_noise):
         k = _farthest(prob, s.level)
@@ -238,7 +275,7 @@ def detection_range(
             start = None
     return RangeResult(
         float(bearing_deg), kind, float(speed), float(s.level), grid, p, p_free, rng,
-        rng_free, tuple(gaps), float(s.sample_rate), int(s.trials),
+        rng_free, tuple(gaps), float(s.sample_rate), int(s.trials), s.walk_direction, split,
     )  # fmt: skip
 
 

@@ -6,20 +6,25 @@ and the intrusion-detector speed set of EN 50131-2-2 (from memory, low confidenc
 labelled as such). A walk segment of 3 m is used for a detection verdict (EN 50131-2-2
 asks for detection within about 3 m of walking; from memory). The probability of detection
 is estimated over start positions spread evenly relative to the beams (the walk is shifted
-itself over one beam pitch, trial by trial) and over seeded noise added at the comparator input.
+over one beam pitch, trial by trial), over both walking directions of a tangential walk in
+equal numbers (by default; one way only on request), and over seeded noise added at the
+comparator input. The positions and directions form a mirror-symmetric set, so a
+mirror-symmetric design gives mirror-symmetric results.
 """
 
 from __future__ import annotations
 
 import math
+import warnings
 from dataclasses import dataclass
 
 import numpy as np
 
 from ..chain.detector import Detector
 from ..circuit.synthesis import NoiseSynthesizer, dominant_sources
-from ..errors import DesignError, check_positive
+from ..errors import DesignError, ValidityWarning, check_positive
 from ..physics.scene import Environment, Target, straight_walks
+from ..settings import WALK_DIRECTIONS
 
 
 @dataclass(frozen=True)
@@ -115,18 +120,37 @@ class WalkSet:
         [m s⁻¹].
     length : float
         Walk length [m].
+    direction : numpy.ndarray of int, shape (n,)
+        +1 counter-clockwise seen from above (towards larger bearings), −1 clockwise, 0 a
+        radial walk (towards the detector).
     """
 
     centre: np.ndarray
     heading: np.ndarray
     speed: np.ndarray
     length: float
+    direction: np.ndarray
 
 
-def walk_heading(los: np.ndarray, kind: str) -> np.ndarray:
-    """Walking direction for a line of sight (n, 2): across it (counter-clockwise) or toward
-    the detector."""
-    return np.stack([-los[:, 1], los[:, 0]], axis=1) if kind == "tangential" else -los
+def trial_directions(trials: int, direction: str = "both") -> np.ndarray:
+    """Walking direction of each of ``trials`` tangential walks: +1 counter-clockwise, −1
+    clockwise. ``"both"`` alternates, starting counter-clockwise, so an even number of trials
+    walks each way equally often (with positions spread symmetrically, trial k and trial
+    n − 1 − k are mirror images of each other across the line of sight's mirror plane)."""
+    if direction not in WALK_DIRECTIONS:
+        choices = "one of " + ", ".join(WALK_DIRECTIONS)
+        raise DesignError("analysis.walk_direction", direction, choices)
+    if direction != "both":
+        return np.full(trials, 1 if direction == "ccw" else -1, dtype=np.int8)
+    return np.where(np.arange(trials) % 2 == 0, 1, -1).astype(np.int8)
+
+
+def walk_heading(los: np.ndarray, kind: str, direction=1) -> np.ndarray:
+    """Walking direction for a line of sight (n, 2): across it (``direction`` +1
+    counter-clockwise, −1 clockwise; broadcast over walks) or toward the detector."""
+    if kind != "tangential":
+        return -los
+    return np.asarray(direction, float).reshape(-1, 1) * np.stack([-los[:, 1], los[:, 0]], axis=1)
 
 
 def make_walks(
@@ -137,14 +161,21 @@ def make_walks(
     length: float = 3.0,
     trials: int = 1,
     jitter: float = 0.0,
+    direction: str = "both",
 ) -> WalkSet:
     """Tangential or radial walks at given distances, bearings and speeds.
 
     All of ``distance``, ``bearing_deg`` and ``speed`` broadcast together; each combination
-    is repeated ``trials`` times at positions spread evenly relative to the beams: a
-    tangential walk is shifted along itself, a radial walk sideways, trial k of n by
-    ((k + ½)/n − ½)·``jitter``·d, where ``jitter`` is an angle [rad] (use
-    :func:`beam_pitch`). No randomness: the seed of an analysis drives its noise only.
+    is repeated ``trials`` times at positions spread evenly relative to the beams: trial k of
+    n is shifted across the line of sight (along a tangential walk, sideways for a radial
+    one) by ((k + ½)/n − ½)·``jitter``·d, where ``jitter`` is an angle [rad] (use
+    :func:`beam_pitch`), and a tangential trial walks the way :func:`trial_directions` gives
+    for ``direction``. No randomness: the seed of an analysis drives its noise only.
+
+    The set is mirror-symmetric: mirrored in the plane through the boresight, the walks at
+    bearing b become the walks at −b (shift and direction both change sign, and with
+    ``"both"`` and an even ``trials`` trial k maps onto trial n − 1 − k), so a
+    mirror-symmetric design gives the same noise-free result at ±b.
     """
     if kind not in ("tangential", "radial"):
         raise DesignError("walk.kind", kind, "'tangential' or 'radial'")
@@ -156,14 +187,26 @@ def make_walks(
         raise DesignError("walk", "distance/speed", "distances and speeds > 0")
     br = np.radians(b)
     los = np.stack([np.cos(br), np.sin(br)], axis=1)
-    head = walk_heading(los, kind)
     # positions spread evenly over the jitter (stratified: trial k of n at (k + 1/2)/n), so a
     # noise-free result does not depend on the seed; the seed drives the noise only
     k = np.tile(np.arange(trials), d.size // max(trials, 1))
+    tangential = kind == "tangential"
+    if tangential and direction == "both" and trials % 2:
+        warnings.warn(
+            ValidityWarning(
+                f"an odd number of trials ({trials}) with walk_direction 'both' walks one way "
+                "once more than the other, so the set of walks is not mirror-symmetric: use "
+                "an even number"
+            ),
+            stacklevel=2,
+        )
+    sense = np.tile(trial_directions(trials, direction), d.size // max(trials, 1))
+    sense = sense if tangential else np.zeros_like(sense)
+    head = walk_heading(los, kind, sense)
     shift = ((k + 0.5) / trials - 0.5) * jitter * d
     side = walk_heading(los, "tangential")
     centre = d[:, None] * los + shift[:, None] * side
-    return WalkSet(centre, head, v, float(length))
+    return WalkSet(centre, head, v, float(length), sense)
 
 
 def detect(

@@ -17,7 +17,7 @@ import warnings
 import numpy as np
 
 from ..errors import DesignError, ValidityWarning, check_range, warnings_once
-from ..settings import MC_HOURS, WALK_SPEED_RANGE, check_work
+from ..settings import MC_HOURS, WALK_DIRECTIONS, WALK_SPEED_RANGE, check_work
 from ..units import parse_celsius, parse_quantity
 from . import cli_calibration, cli_production, cli_two_wire
 from .cautions import CAUTIONS
@@ -39,6 +39,8 @@ COMMANDS = {
     **cli_calibration.COMMANDS,
     **cli_two_wire.COMMANDS,
 }
+
+DIRECTION_HELP = "way of tangential walks: both in turn, ccw or cw (seen from above)"
 
 
 def _epilog() -> str:
@@ -101,6 +103,7 @@ def build_parser() -> argparse.ArgumentParser:
         help="walk across, walk towards, or stay still at --distance (for a minor-motion "
         "target such as scene.target = 'minor_motion_arm')",
     )
+    sp.add_argument("--direction", choices=WALK_DIRECTIONS[1:], default="ccw", help=DIRECTION_HELP)
     sp.add_argument("--csv", help="write the waveforms here")
     sp.add_argument("--plot", help="write a PNG of the waveforms here")
     sp.add_argument("--force", action="store_true", help="replace existing output files")
@@ -127,16 +130,11 @@ def build_parser() -> argparse.ArgumentParser:
     sp.add_argument("--walk-distance", default=None, help="distance of a tangential walk [m]")
     sp.add_argument("--force", action="store_true", help="replace an existing file")
     sp = add("report")
-    sp.add_argument(
-        "-o",
-        "--output",
-        default=None,
-        help="HTML file (default: pirchain-report.html, never overwritten)",
-    )
+    sp.add_argument("-o", "--output", help="HTML file (default: pirchain-report[-N].html)")
     sp.add_argument("--force", action="store_true", help="replace an existing file")
-    sp.add_argument(
-        "--quick", action="store_true", help="fewer trials, coarser grids (uncertainty shown)"
-    )
+    sp.add_argument("--quick", action="store_true", help="fewer trials, spread shown")
+    for name in ("range", "sweep", "report"):
+        sub.choices[name].add_argument("--direction", choices=WALK_DIRECTIONS, help=DIRECTION_HELP)
     cli_production.add_parsers(add)
     cli_calibration.add_parsers(add)
     cli_two_wire.add_parsers(add)
@@ -150,6 +148,8 @@ def _design(args):
     d = demo_design() if getattr(args, "design", None) is None else load(args.design)
     if args.seed is not None:
         d = _with_setting(d, "seed", args.seed)
+    if getattr(args, "direction", None) and args.command != "walk":
+        d = _with_setting(d, "walk_direction", args.direction, "--direction")
     return d
 
 
@@ -249,7 +249,8 @@ def cmd_walk(args):
     check_range("--speed", speed, *WALK_SPEED_RANGE, "m/s (a person's speed)")
     check_range("--distance", dist, 0.05, 1000.0, "m")
     if args.kind == "tangential":
-        path, closest = tangential_path(dist, bearing, speed, length=6.0), dist
+        sense = 1 if args.direction == "ccw" else -1
+        path, closest = tangential_path(dist, bearing, speed, 6.0, sense), dist
     elif args.kind == "radial":
         closest = max(dist - 3.0, 0.3)
         path = radial_path(dist + 3.0, closest, bearing, speed)
@@ -283,6 +284,7 @@ def cmd_walk(args):
         "bearing_deg": bearing,
         "speed_m_s": speed,
         "kind": args.kind,
+        "direction": args.direction if args.kind == "tangential" else None,
         "detected": dec.detected,
         "first_on_s": dec.first_on,
         "peak_gate_v": float(np.max(np.abs(res.gate_voltage))),
@@ -313,6 +315,7 @@ def cmd_range(args):
             "range_m": r.range,
             "range_noise_free_m": r.range_noise_free,
             "gaps_m": r.gaps,
+            "walk_direction": r.walk_direction if r.kind == "tangential" else "towards",
         }
         for r in results
     ]

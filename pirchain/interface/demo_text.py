@@ -144,4 +144,5 @@ false_trigger_budget = 1.0
 coverage_cell = 1.0
 coverage_x_max = 16
 coverage_trials = 2
+walk_direction = "both"   # tangential walks both ways in turn; "ccw" / "cw": one way only
 """

@@ -26,7 +26,7 @@ from ..physics.disturbance import AmbientCases, Draught, LampInView
 from ..physics.optics import Facet, Lens, LensRing, LensTier, Mount, wall_lens
 from ..physics.scene import DEFAULT_TARGET, TARGET_PRESETS, Environment
 from ..physics.sensor import MATERIALS, PyroSensor, dual_elements
-from ..settings import AnalysisSettings
+from ..settings import WALK_DIRECTIONS, AnalysisSettings
 from ..signoff import DISTRIBUTIONS, Acceptance, CalibrationRecord, Tolerance
 
 REQ = object()  # marks a required key
@@ -414,6 +414,7 @@ SCHEMA = {
                 "sensitivity_path": ("str", None),
                 "sensitivity_values": ("list", None),
                 "coverage_trials": ("int", None),
+                "walk_direction": ("choice", WALK_DIRECTIONS),
             },
         ),  # fmt: skip
         {},

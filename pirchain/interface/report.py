@@ -104,6 +104,11 @@ def sample_walk_distance(det, walk_distance: float) -> float:
     return float(min(walk_distance, np.median(ground)))
 
 
+_WAYS = {
+    "both": "tangential walks both ways in equal numbers (mirror-symmetric set)",
+    "ccw": "tangential walks counter-clockwise only (seen from above)",
+    "cw": "tangential walks clockwise only (seen from above)",
+}
 QUICK = {"trials": 2, "refine": 2, "step": 3.0, "coverage_cell": 2.0, "coverage_trials": 1}
 QUICK_SWEEP = 3  # sensitivity values of a quick report
 
@@ -323,11 +328,13 @@ def render(design, data: dict) -> str:
         _img(fig["walk"], "stage waveforms"),
         "<h2>Coverage</h2>",
         f"<p>{num['coverage_walks']} walks at {a.coverage_speed:g} m/s (NEMA WD 7: 1.22 m/s), "
-        f"cells of {a.coverage_cell:g} m.</p>",
+        f"cells of {a.coverage_cell:g} m; {_WAYS[a.walk_direction]}.</p>",
         _img(fig["top_tangential"], "top view, tangential"),
         _img(fig["top_radial"], "top view, radial"),
         _img(fig["side"], "side view"),
         "<h2>Range per bearing</h2>",
+        f"<p>{a.trials} walks per distance, spread over one beam pitch; "
+        f"{_WAYS[a.walk_direction]}.</p>",
         _img(fig["range"], "range per bearing"),
         _table(
             ("walk", "bearing", f"range at P ≥ {a.level:g} [m]", "noise-free [m]", "gaps"), rng_rows

@@ -83,6 +83,7 @@ def _lines(design, acc):
         p = probability_of_detection(
             det, design.target, env, np.full(b.size, acc.range_m), b.ravel(), v.ravel(),
             acc.kind, acc.trials, a.seed, True, sample_rate=a.sample_rate, sources=src,
+            direction=a.walk_direction,
         )  # fmt: skip
         values += [float(x) for x in p]
         margins += [float(x) - acc.level for x in p]

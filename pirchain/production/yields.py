@@ -232,7 +232,7 @@ def _grid_range(design, bearing, speed, step=0.5) -> float:
     grid = np.arange(a.d_min, a.d_max + 1e-9, step)
     p = probability_of_detection(
         design.operating, design.target, design.environment, grid, bearing, speed, acc.kind,
-        acc.trials, a.seed, False, sample_rate=a.sample_rate,
+        acc.trials, a.seed, False, sample_rate=a.sample_rate, direction=a.walk_direction,
     )  # fmt: skip
     ok = np.flatnonzero(p >= acc.level)
     return float(grid[ok[-1]]) if ok.size else 0.0
