@@ -26,7 +26,11 @@ the demo's noise-free tangential range at −50° / +50° went from 20.09 / 14.2
 14.47 m (−30° / +30°: 20.38 / 19.81 → 19.53 / 20.00 m; −15° / +15°: 20.00 / 19.91 →
 19.72 / 19.72 m), the sweep's ranges moved by at most 0.38 m, radial ranges are unchanged,
 the API record's maps changed cell by cell (new positions), and `walk_direction` (range)
-and `direction` (walk) were added to the JSON.
+and `direction` (walk) were added to the JSON. Re-recorded for issue 19's range estimates:
+the noise of trial k is one seeded draw shared by every distance of a range search (common
+random numbers), so noisy ranges moved (demo: by at most 0.1 m in the range table, up to
+1.2 m in the sweep's noisiest rows, where noise decides) and noise-free ones did not; the
+95 % interval of each range was added (`range_interval_m`; the report's sixth column).
 
 Comparison: strings, booleans and integers exactly; floating-point numbers within a
 relative 1e-9 (rounding differences of reordered sums, orders above 1e-16 and far below any

@@ -11,13 +11,16 @@ than smoothed over.
 from __future__ import annotations
 
 import dataclasses
+import math
+import warnings
 from dataclasses import dataclass
 
 import numpy as np
 
-from ..errors import check_range, warnings_once
+from ..errors import ValidityWarning, check_range, warnings_once
 from ..settings import WALK_SPEED_RANGE, AnalysisSettings, check_work
 from .false_triggers import comparator_sources
+from .rice import clopper_pearson
 from .walk_tests import beam_pitch, detect, make_walks
 
 
@@ -55,6 +58,10 @@ class RangeResult:
     walk_direction : str
         Which way the tangential walks went ("both", "ccw", "cw"; see
         :data:`pirchain.settings.WALK_DIRECTIONS`).
+    range_interval : tuple of float or None
+        95 % interval of ``range`` [m] (:func:`range_interval`): from the binomial spread of
+        P(detect) at the distances evaluated; None without noise. Its low end is 0 when the
+        trial count cannot confirm the level (:func:`trials_to_resolve`).
     probability_by_direction : dict of str to numpy.ndarray
         P(detect) on the grid of the walks of each direction ("ccw", "cw"; "radial" for
         radial walks), noise as in ``probability``: at one bearing of a mirror-symmetric
@@ -76,6 +83,71 @@ class RangeResult:
     trials: int
     walk_direction: str = "both"
     probability_by_direction: dict = dataclasses.field(default_factory=dict)
+    range_interval: tuple[float, float] | None = None
+
+
+#: Confidence of a range's interval (two-sided, Clopper–Pearson at each evaluated distance).
+RANGE_CONFIDENCE = 0.95
+
+
+def trials_to_resolve(level: float, confidence: float = RANGE_CONFIDENCE) -> int | None:
+    """Fewest walks per distance whose all-detected outcome puts the exact lower confidence
+    bound of P(detect) at or above ``level``: n ≥ ln((1 − confidence)/2) / ln(level)
+    (Clopper–Pearson with k = n); None for a level of 1, which no finite count confirms."""
+    if level >= 1.0:
+        return None
+    return math.ceil(math.log((1.0 - confidence) / 2.0) / math.log(level) - 1e-12)
+
+
+def warn_unresolved(trials: int, level: float) -> None:
+    """Say (as a :class:`ValidityWarning`) when ``trials`` walks cannot confirm ``level``."""
+    need = trials_to_resolve(level)
+    if need is not None and trials >= need:
+        return
+    low = clopper_pearson(trials, trials, RANGE_CONFIDENCE, "analysis.trials")[0]
+    fix = "no finite number does" if need is None else f"at least {need} do"
+    warnings.warn(
+        ValidityWarning(
+            f"analysis.trials = {trials} cannot resolve P(detect) >= {level:g}: even all "
+            f"{trials} walks detected leave its 95 % lower bound at {low:.2f}, so the "
+            f"range's interval starts at 0 ({fix})"
+        ),
+        stacklevel=3,
+    )
+
+
+def range_interval(seen, trials: int, level: float, found: float, d_max: float):
+    """95 % interval of a range from the distances evaluated and their P(detect).
+
+    The true range lies beyond the farthest distance at or below ``found`` whose P(detect)
+    is confidently at least ``level`` (the Clopper–Pearson lower bound of its k of ``trials``
+    at or above the level; 0 if none is), and before the nearest distance beyond ``found``
+    whose P(detect) is confidently below it (upper bound under the level; ``d_max`` if none).
+
+    Parameters
+    ----------
+    seen : sequence of (float, float)
+        Distances [m] and the P(detect) found there (grid and bisection).
+    trials : int
+    level : float
+    found : float
+        The range [m].
+    d_max : float
+        End of the search [m].
+
+    Returns
+    -------
+    tuple of float
+        (low, high) [m].
+    """
+    low, high = 0.0, float(d_max)
+    for d, q in seen:
+        lo, hi = clopper_pearson(round(q * trials), trials, RANGE_CONFIDENCE, "analysis.trials")
+        if d <= found + 1e-12 and lo >= level:
+            low = max(low, d)
+        if d > found + 1e-12 and hi < level:
+            high = min(high, d)
+    return low, high
 
 
 def probability_of_detection(
@@ -145,7 +217,9 @@ def probability_of_detection(
     src = None
     if noise:
         src = comparator_sources(detector, env) if sources is None else sources
-    hit, _ = detect(detector, target, env, walks, sample_rate, src, seed)
+    # common random numbers: trial k meets the same noise at every distance and in every
+    # call with this seed, so a grid, its bisection and a re-evaluation agree
+    hit, _ = detect(detector, target, env, walks, sample_rate, src, seed, common=trials)
     hit = hit.reshape(d.size, trials)
     p = hit.mean(axis=1).reshape(d.shape)
     if not by_direction:
@@ -162,6 +236,7 @@ def _farthest(prob, level):
     return int(ok[-1]) if ok.size else -1
 
 
+@warnings_once()
 def detection_range(
     detector,
     target,
@@ -214,7 +289,12 @@ def detection_range(
     noise-free range depends on the design and the settings alone, never on the seed, and a
     mirror-symmetric design gives the same noise-free range at ±bearing. The range is the
     farthest grid distance that meets the level, refined by ``settings.refine`` bisection
-    steps towards the next grid distance.
+    steps towards the next grid distance. The noise uses common random numbers: trial k
+    meets the same noise draw at every distance of the grid and the bisection, so P(detect)
+    re-evaluated at the reported range with the same seed is the one the search saw (at
+    least the level), and the range's 95 % interval comes from the binomial spread of
+    P(detect) at the distances evaluated (:func:`range_interval`); a trial count too small
+    to confirm the level is said once.
     """
     s = AnalysisSettings() if settings is None else settings
     check_range("speed", speed, *WALK_SPEED_RANGE, "m/s (a person's speed)")
@@ -247,7 +327,7 @@ def detection_range(
     else:
         p = p_free
 
-    def refined(prob, use_noise):
+    def refined(prob, use_noise, seen):
         k = _farthest(prob, s.level)
         if k < 0:
             return 0.0
@@ -259,11 +339,17 @@ def detection_range(
             pm = probability_of_detection(
                 detector, target, env, [mid], noise=use_noise, sources=src, **kw
             )[0]
+            seen.append((float(mid), float(pm)))
             a, b = (mid, b) if pm >= s.level else (a, mid)
         return float(a)
 
-    rng = refined(p, s.noise)
-    rng_free = refined(p_free, False) if s.noise else rng
+    seen = [(float(d), float(q)) for d, q in zip(grid, p, strict=True)]
+    rng = refined(p, s.noise, seen)
+    rng_free = refined(p_free, False, []) if s.noise else rng
+    interval = None
+    if s.noise:
+        warn_unresolved(s.trials, s.level)
+        interval = range_interval(seen, s.trials, s.level, rng, s.d_max)
     k = _farthest(p, s.level)
     gaps, start = [], None
     half = 0.5 * s.step  # a gap covers the grid cells of its missed distances: never 0 wide
@@ -276,6 +362,7 @@ def detection_range(
     return RangeResult(
         float(bearing_deg), kind, float(speed), float(s.level), grid, p, p_free, rng,
         rng_free, tuple(gaps), float(s.sample_rate), int(s.trials), s.walk_direction, split,
+        interval,
     )  # fmt: skip
 
 

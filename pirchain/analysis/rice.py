@@ -6,6 +6,8 @@ References
    (1944) and 24, 46 (1945): up-crossing rate ν⁺(u) = √(m2/m0) exp(−u²/(2 m0)),
    m_k = ∫ f^k S(f) df (one-sided PSD, f in Hz).
 .. [2] Garwood, F., Biometrika 28, 437 (1936): exact confidence interval of a Poisson count.
+.. [3] Clopper, C. J. and Pearson, E. S., Biometrika 26, 404 (1934): exact confidence
+   interval of a binomial proportion.
 """
 
 from __future__ import annotations
@@ -44,6 +46,19 @@ def level_for_rate(rate: float, m0: float, m2: float) -> float:
     if not 0 < rate < nu0:
         raise DesignError("target_rate", rate, f"a rate between 0 and ν₀⁺ = {nu0:.4g} /s")
     return math.sqrt(2.0 * m0 * math.log(nu0 / rate))
+
+
+def clopper_pearson(
+    k: int, n: int, confidence: float = 0.95, field: str = "units"
+) -> tuple[float, float]:
+    """Exact binomial interval of a proportion k/n (Clopper and Pearson, Biometrika 26, 404,
+    1934): the beta quantiles at (1 − confidence)/2 and (1 + confidence)/2."""
+    if n <= 0 or not 0 <= k <= n:
+        raise DesignError(field, n, f"a count of at least {k}")
+    a = 1.0 - confidence
+    lo = 0.0 if k == 0 else float(stats.beta.ppf(a / 2, k, n - k + 1))
+    hi = 1.0 if k == n else float(stats.beta.ppf(1 - a / 2, k + 1, n - k))
+    return lo, hi
 
 
 def poisson_interval(count: int, exposure: float, confidence: float = 0.95):

@@ -220,6 +220,7 @@ def detect(
     chunk: int = 256,
     tail: float = 2.0,
     progress=None,
+    common: int | None = None,
 ):
     """Run test walks through the whole chain in chunks (bounded memory).
 
@@ -234,6 +235,11 @@ def detect(
         below 1e-4 of the total variance are left out, as in the Monte Carlo).
     tail : float
         Time simulated after the walk ends [s].
+    common : int, optional
+        Common random numbers: walk i gets the noise of stream i mod ``common`` of one seeded
+        draw per sample rate and length, so that the same trial at other distances (or in
+        another call with the same seed) meets the same noise. Without it every walk of the
+        call has its own draw.
 
     Returns
     -------
@@ -248,7 +254,7 @@ def detect(
     detector.window()  # warns if the rest level is outside the window
     noise_sources = dominant_sources(noise_sources or [])
     rates = detector.sample_rate_for(walks.speed, closest_range(walks), sample_rate)
-    done = 0
+    done, shared = 0, {}
     for rate in np.unique(rates):  # walks that cross beams fast run at a higher rate
         idx = np.flatnonzero(rates == rate)
         for c0 in range(0, idx.size, chunk):
@@ -260,14 +266,16 @@ def detect(
                 start, walks.heading[sel], v, dur, rate, start_times=0.5, lengths=walks.length
             )
             noise = None
-            if noise_sources:
-                synth = NoiseSynthesizer(
+            if noise_sources and common:
+                key = (float(rate), batch.n_samples)
+                if key not in shared:
+                    shared[key] = _noise(noise_sources, rate, common, seed, batch.n_samples)
+                noise = shared[key][sel % common]
+            elif noise_sources:
+                noise = _noise(
                     noise_sources, rate, batch.n_walks, seed * 100003 + int(sel[0]),
-                    stationary=True,
+                    batch.n_samples,
                 )  # fmt: skip
-                if synth.warm_up_needed:
-                    synth.next(int(10 * rate))
-                noise = synth.next(batch.n_samples)
             out = detector.outcomes(target, env, batch, extra=noise)
             detected[sel] = out.detected
             peak[sel] = out.peak
@@ -275,6 +283,14 @@ def detect(
             if progress is not None:
                 progress(done / n)
     return detected, peak
+
+
+def _noise(sources, rate, streams, seed, n):
+    """``streams`` seeded noise streams of ``n`` samples at the comparator input [V]."""
+    synth = NoiseSynthesizer(sources, rate, streams, seed, stationary=True)
+    if synth.warm_up_needed:
+        synth.next(int(10 * rate))
+    return synth.next(n)
 
 
 def closest_range(walks: WalkSet) -> np.ndarray:

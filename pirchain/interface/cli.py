@@ -21,7 +21,7 @@ from ..settings import MC_HOURS, WALK_DIRECTIONS, WALK_SPEED_RANGE, check_work
 from ..units import parse_celsius, parse_quantity
 from . import cli_calibration, cli_production, cli_two_wire
 from .cautions import CAUTIONS
-from .output import Progress, check_output, free_name, terminal_text, to_json, write_new
+from .output import Progress, check_output, free_name, span, terminal_text, to_json, write_new
 
 EXIT_OK, EXIT_DESIGN, EXIT_INTERNAL, EXIT_INTERRUPTED = 0, 2, 3, 130
 
@@ -309,20 +309,17 @@ def cmd_range(args):
     prog = Progress("range", True if args.progress else None)
     results = range_table(d, kinds, bearings, prog)
     rows = [
-        {
-            "kind": r.kind,
-            "bearing_deg": r.bearing_deg,
-            "range_m": r.range,
-            "range_noise_free_m": r.range_noise_free,
-            "gaps_m": r.gaps,
-            "walk_direction": r.walk_direction if r.kind == "tangential" else "towards",
-        }
+        {"kind": r.kind, "bearing_deg": r.bearing_deg, "range_m": r.range,
+         "range_noise_free_m": r.range_noise_free, "range_interval_m": r.range_interval,
+         "gaps_m": r.gaps,
+         "walk_direction": r.walk_direction if r.kind == "tangential" else "towards"}
         for r in results
-    ]
+    ]  # fmt: skip
     data = {"level": a.level, "speed_m_s": d.speed, "ranges": rows}
-    lines = [f"{'walk':>10} {'bearing':>8} {'range m':>8} {'noise-free':>10}  gaps"] + [
+    head = f"{'walk':>10} {'bearing':>8} {'range m':>8} {'95 % interval':>13} {'noise-free':>10}"
+    lines = [head + "  gaps"] + [
         f"{r['kind']:>10} {r['bearing_deg']:8.1f} {r['range_m']:8.2f} "
-        f"{r['range_noise_free_m']:10.2f}  "
+        f"{span(r['range_interval_m']):>13} {r['range_noise_free_m']:10.2f}  "
         + ", ".join(f"{g0:.2f}–{g1:.2f} m" for g0, g1 in r["gaps_m"])
         for r in rows
     ]

@@ -151,3 +151,10 @@ class Progress:
         if fraction >= 1:
             sys.stderr.write("\n")
         sys.stderr.flush()
+
+
+def span(interval, digits: int = 2) -> str:
+    """An interval (low, high) as "low–high", or "—" for None."""
+    if interval is None:
+        return "—"
+    return f"{interval[0]:.{digits}f}–{interval[1]:.{digits}f}"

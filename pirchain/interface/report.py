@@ -32,7 +32,7 @@ from ..units import format_eng
 from . import plots, report_calibration, report_signoff, report_two_wire
 from .cautions import CAUTIONS
 from .design_schema import unit_of
-from .output import terminal_text
+from .output import span, terminal_text
 
 SECTIONS = (
     "Design summary",
@@ -184,7 +184,10 @@ def compute(design, progress=None) -> dict:
     tick(4)
     ranges = range_table(design)
     fig["range"] = plots.png_bytes(plots.range_by_bearing(ranges))
-    num["ranges"] = [(r.kind, r.bearing_deg, r.range, r.range_noise_free, r.gaps) for r in ranges]
+    num["ranges"] = [
+        (r.kind, r.bearing_deg, r.range, r.range_noise_free, r.gaps, r.range_interval)
+        for r in ranges
+    ]
     tick(5)
     values = a.sensitivity_values or tuple(log_values(50e3, 1e6, 6))
     trade = trade_off(design, a.sensitivity_path, values, a.false_trigger_budget)
@@ -289,10 +292,11 @@ def render(design, data: dict) -> str:
             k,
             f"{b:g}°",
             f"{r:.2f}",
+            span(iv),
             f"{rf:.2f}",
             "; ".join(f"{g0:g}–{g1:g} m" for g0, g1 in gaps) or "none",
         )
-        for k, b, r, rf, gaps in num["ranges"]
+        for k, b, r, rf, gaps, iv in num["ranges"]
     ]
     r1 = num["sensitivity_1_per_year_ohm"]
     best = num["best_value"]
@@ -337,7 +341,15 @@ def render(design, data: dict) -> str:
         f"{_WAYS[a.walk_direction]}.</p>",
         _img(fig["range"], "range per bearing"),
         _table(
-            ("walk", "bearing", f"range at P ≥ {a.level:g} [m]", "noise-free [m]", "gaps"), rng_rows
+            (
+                "walk",
+                "bearing",
+                f"range at P ≥ {a.level:g} [m]",
+                "95 % interval [m]",
+                "noise-free [m]",
+                "gaps",
+            ),
+            rng_rows,  # fmt: skip
         ),
         "<h2>Sensitivity sweep</h2>",
         _img(fig["sweep"], "range and false triggers"),

@@ -27,12 +27,13 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..analysis.detection_range import detection_range
+from ..analysis.rice import clopper_pearson
 from ..errors import DesignError
 from ..settings import AnalysisSettings
 from .eseries import values_between
 from .runners import DaskCluster, InProcess
 from .tolerances import draw, expand, with_values
-from .yields import clopper_pearson, evaluate_units
+from .yields import evaluate_units
 
 MAX_CANDIDATES = 2000
 

@@ -22,22 +22,13 @@ import numpy as np
 from scipy import stats
 
 from ..analysis.detection_range import probability_of_detection
+from ..analysis.rice import clopper_pearson
 from ..errors import DesignError
 from .acceptance import evaluate_unit
 from .runners import DaskCluster, InProcess
 from .tolerances import draw, expand, with_values
 
 MAX_UNITS = 100_000
-
-
-def clopper_pearson(k: int, n: int, confidence: float = 0.95) -> tuple[float, float]:
-    """Exact binomial interval of a proportion k/n (Clopper–Pearson)."""
-    if n <= 0 or not 0 <= k <= n:
-        raise DesignError("units", n, f"a count of at least {k} units")
-    a = 1.0 - confidence
-    lo = 0.0 if k == 0 else float(stats.beta.ppf(a / 2, k, n - k + 1))
-    hi = 1.0 if k == n else float(stats.beta.ppf(1 - a / 2, k + 1, n - k))
-    return lo, hi
 
 
 def evaluate_units(design, paths, rows):

@@ -4,7 +4,7 @@ Each entry: (name, arguments after ``pirchain``, files the command writes). ``ma
 runs them and stores the outputs as ``<name>.json`` (standard output) and
 ``<name>.<file>`` (written files); ``tests/test_golden.py`` runs them again and compares.
 The records' history (first made before the single-engine rework, re-recorded for the
-intended changes of issues 12, 13 and 18) is in ``tests/test_golden.py``.
+intended changes of issues 12, 13, 18 and 19) is in ``tests/test_golden.py``.
 """
 
 COMMANDS = (
