@@ -85,7 +85,7 @@ BROKEN = [
     (mutate("level = 0.9", "level = 1.5"), "analysis.level"),
     (mutate("v_high = 3.28", "v_high = 0.01"), "opamp.v_high"),
     (mutate('r1 = "10k"', 'r1 = "ten k"'), "stages[0].r1"),
-    (mutate("trials = 4", "trials = 2.5"), "analysis.trials"),
+    (mutate("trials = 36", "trials = 2.5"), "analysis.trials"),
 ]
 
 

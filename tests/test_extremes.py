@@ -106,7 +106,7 @@ def test_interrupted_write_leaves_nothing(tmp_path, monkeypatch):
 
 
 def test_same_seed_gives_identical_json(tmp_path, capsys):
-    small = DEMO_TOML.replace("trials = 4", "trials = 2").replace(
+    small = DEMO_TOML.replace("trials = 36", "trials = 2").replace(
         "bearings = [-50, -30, -15, 0, 15, 30, 50]", "bearings = [0]"
     )
     path = tmp_path / "d.toml"

@@ -31,6 +31,13 @@ the noise of trial k is one seeded draw shared by every distance of a range sear
 random numbers), so noisy ranges moved (demo: by at most 0.1 m in the range table, up to
 1.2 m in the sweep's noisiest rows, where noise decides) and noise-free ones did not; the
 95 % interval of each range was added (`range_interval_m`; the report's sixth column).
+Re-recorded again for the rest of issue 19: the person's skin and clothing surface from the
+two-node model in the room instead of a comfort value (at the demo's 21 °C and 1.6 met: skin
+33.14 → 34.1 °C, clothing within 0.2 K of before; peak gate signal at 8 m 4.57 → 4.74 mV),
+and the demo's 36 walks per distance (4 could not confirm its 0.9 level): tangential ranges
+moved by at most 2.2 m (±50°: 14.4 → 12.3 m, where 36 walks see the edge of the field of
+view that 4 missed), radial by at most 1.3 m, the sweep's noisiest radial rows by up to
+6 m.
 
 Comparison: strings, booleans and integers exactly; floating-point numbers within a
 relative 1e-9 (rounding differences of reordered sums, orders above 1e-16 and far below any

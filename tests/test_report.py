@@ -16,7 +16,7 @@ EVIL = "<script>alert(1)</script>"
 def small_design(tmp_path):
     text = (
         DEMO_TOML.replace('name = "Tern-2 reading-room wall sensor (demo)"', f'name = "{EVIL}"')
-        .replace("trials = 4", "trials = 1")
+        .replace("trials = 36", "trials = 1")
         .replace("bearings = [-50, -30, -15, 0, 15, 30, 50]", "bearings = [0, 30]")
         .replace("coverage_x_max = 16", "coverage_x_max = 6")
         .replace("coverage_cell = 1.0", "coverage_cell = 1.5")

@@ -307,7 +307,7 @@ class CompiledChain:
 @functools.lru_cache(maxsize=64)
 def _contrast(target, environment, band):
     """Radiance contrast of each part (static, then arm segments) [W m⁻² sr⁻¹] (cached:
-    the clothing heat balance is iterated)."""
+    the two-node body model is stepped through an hour for each room)."""
     return target.radiance_contrast(environment, band)
 
 

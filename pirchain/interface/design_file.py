@@ -399,6 +399,7 @@ def design_from_dict(data: dict) -> Design:
             sc["background_c"],
             sc["background_emissivity"],
             sc["air_speed"],
+            sc["relative_humidity"],
         ),
     )
     dr = None if c["draught"] is None else _build("draught", lambda: Draught(**c["draught"]))

@@ -311,6 +311,7 @@ SCHEMA = {
             "background_c": ("celsius", None, From(Environment)),
             "background_emissivity": _q(None, From(Environment)),
             "air_speed": _q("m/s", From(Environment)),
+            "relative_humidity": _q(None, From(Environment)),  # [%]
             "lux": _q("lux", From(Design)),
             "detector_c": ("celsius", None, From(Design)),  # none: the air temperature
         },

@@ -27,7 +27,7 @@ import numpy as np
 
 from ..errors import DesignError, check_array, check_choice, check_nonnegative, check_positive
 from ..errors import check_range as _check_range
-from .body_heat import clothing_surface_temperature_c, fur_surface_temperature_c, skin_temperature_c
+from .body_heat import fur_surface_temperature_c, two_node_temperatures
 from .radiometry import celsius_to_kelvin, radiance_contrast
 
 SKIN_EMISSIVITY = 0.98  # Steketee (1973)
@@ -71,6 +71,8 @@ class Environment:
         Emissivity of those surfaces.
     air_speed : float
         Air speed around the occupant [m s⁻¹].
+    relative_humidity : float
+        [%]; sets how well a warm person's sweat cools the skin (two-node model).
     """
 
     air_c: float = 22.0
@@ -78,6 +80,7 @@ class Environment:
     background_c: float | None = None
     background_emissivity: float = 0.95
     air_speed: float = 0.1
+    relative_humidity: float = 50.0
 
     def __post_init__(self):
         _check_range("environment.air_c", self.air_c, -40.0, 60.0, "°C")
@@ -87,6 +90,7 @@ class Environment:
             _check_range("environment.background_c", self.background_c, -40.0, 80.0, "°C")
         _check_range("environment.background_emissivity", self.background_emissivity, 0.01, 1.0)
         check_nonnegative("environment.air_speed", self.air_speed, "m/s")
+        _check_range("environment.relative_humidity", self.relative_humidity, 0.0, 100.0, "%")
 
     @property
     def mean_radiant_c(self) -> float:
@@ -127,8 +131,9 @@ class BodyPart:
     width_front, width_side : float
         Width seen from the front (walking straight at the detector) and from the side [m].
     surface : {"skin", "clothing", "fur", "fixed"}
-        How the surface temperature is found (Fanger skin, ISO 7730 clothing, fur resistance,
-        or ``temperature_c``).
+        How the surface temperature is found (skin and clothing surface by the two-node model
+        of Gagge et al. 1986 in the room, :func:`pirchain.physics.body_heat.two_node_temperatures`;
+        fur by its series resistance; or ``temperature_c``).
     emissivity : float
         LWIR emissivity.
     temperature_c : float or None
@@ -252,12 +257,13 @@ class Target:
 
     def surface_temperatures_c(self, env: Environment) -> np.ndarray:
         """Surface temperature of each part (static parts, then arm segments) [°C]."""
-        skin = float(skin_temperature_c(self.met))
-        cloth = float(
-            clothing_surface_temperature_c(
-                env.air_c, env.mean_radiant_c, self.clo, self.met, env.air_speed
+        skin, _, cloth = (
+            float(t)
+            for t in two_node_temperatures(
+                env.air_c, env.mean_radiant_c, env.air_speed, env.relative_humidity, self.met,
+                self.clo,
             )
-        )
+        )  # fmt: skip
         fur = float(fur_surface_temperature_c(env.air_c, self.core_c, self.fur_clo))
         lookup = {"skin": skin, "clothing": cloth, "fur": fur}
         temps = [p.temperature_c if p.surface == "fixed" else lookup[p.surface] for p in self.parts]
