@@ -17,7 +17,9 @@ the whole chain; ``taps`` says which nodes' waveforms to keep:
 
 from __future__ import annotations
 
+import dataclasses
 import functools
+import re
 from dataclasses import dataclass
 
 import numpy as np
@@ -27,9 +29,10 @@ from ..logic.rules import Decision, PulseLogic, Pulses
 from . import tables as tb
 
 TAPS = ("element_power", "equivalent_power", "gate", "source", "stages", "comparator", "events")
-#: Where a driven signal may enter, and the first node it reaches.
-DRIVE_NODES = {"equivalent_power": 1, "gate": 2, "comparator": 3}
-_FIRST_TAP = {0: 0, 1: 1, 2: 2, 3: 5}  # start node → index in TAPS of the first tap it has
+#: Where a driven signal may enter (besides ``stage<k>_input``), and the kernel's start node.
+DRIVE_NODES = {"element_current": 1, "equivalent_power": 1, "gate": 2, "comparator": 3}
+_FIRST_TAP = {0: 0, 1: 1, 2: 2, 3: 5, 4: 4}  # start node → index in TAPS of the first tap it has
+_STAGE_INPUT = re.compile(r"stage([1-9][0-9]?)_input")
 
 
 @dataclass(frozen=True)
@@ -130,6 +133,8 @@ class CompiledChain:
     optics_summed, optics_per_element : OpticsTable
         Beams summed straight into Σ c_k P_k, or kept per element.
     sensor : SensorTable
+    sensor_current : SensorTable
+        The gate node's impedance, for an injected element current.
     follower : FollowerTable
     stages : StageTable
     logic : LogicTable
@@ -146,6 +151,7 @@ class CompiledChain:
     optics_summed: tb.OpticsTable
     optics_per_element: tb.OpticsTable
     sensor: tb.SensorTable
+    sensor_current: tb.SensorTable
     follower: tb.FollowerTable
     stages: tb.StageTable
     logic: tb.LogicTable
@@ -183,36 +189,64 @@ class CompiledChain:
 
         Parameters
         ----------
-        node : {"equivalent_power", "gate", "comparator"}
-            Where the signal enters: Σ c_k P_k [W] (the sensor responds to its change from
-            the first sample), the gate-voltage change [V], or the comparator input [V].
+        node : str
+            Where the signal enters: ``"element_current"``, the pyroelectric current into
+            the gate node R_G ∥ C_gate [A] (what a bench injects and the exported netlist's
+            current source carries; for one element of a pair, its current times its
+            :attr:`~pirchain.physics.sensor.PyroSensor.coupling`), the first sample taken as
+            flowing for ever (it lifts the gate by i R_G); ``"equivalent_power"``, Σ c_k P_k
+            [W] (the sensor responds to its change from the first sample);
+            ``"gate"``, the gate-voltage change from its bias [V]; ``"stage<k>_input"``, the
+            absolute voltage at stage k's input [V] (``stage1_input`` is the follower's
+            source); ``"comparator"``, the comparator input [V].
         signal : array_like, shape (walks, samples)
             The input.
         start : {"steady", "discharged"}
             Every stage in steady state with its first input, or every capacitor
             discharged (the supply switching on at t = 0).
+
+        Returns
+        -------
+        ChainRun
+            As a walk's, from the node driven on; stage outputs before a driven stage
+            input are NaN.
         """
-        if node not in DRIVE_NODES:
-            raise DesignError("node", node, "one of " + ", ".join(DRIVE_NODES))
+        first = 0
+        m = _STAGE_INPUT.fullmatch(node) if isinstance(node, str) else None
+        n_st = len(self.detector.stages)
+        if m is not None and 1 <= int(m.group(1)) <= n_st:
+            k = int(m.group(1))
+            first = int(np.flatnonzero(self.stages.stage_of == k - 1)[0])
+        elif node not in DRIVE_NODES:
+            names = ", ".join((*DRIVE_NODES, f"stage1_input … stage{n_st}_input"))
+            raise DesignError("node", node, "one of " + names)
         if start not in ("steady", "discharged"):
             raise DesignError("start", start, "'steady' or 'discharged'")
         sig = _finite_batch("signal", signal, self.n_samples)
-        return self._run(
-            DRIVE_NODES[node], sig.shape[0], None, None, (sig, start == "discharged"), taps,
-            lux, extra,
+        begin = 4 if m is not None else DRIVE_NODES[node]
+        sensor = self.sensor_current if node == "element_current" else self.sensor
+        run = self._run(
+            begin, sig.shape[0], None, None, (sig, start == "discharged", first), taps, lux,
+            extra, sensor, 2 if node == "element_current" else None,
         )  # fmt: skip
+        if m is None or run.stage_outputs is None:
+            return run
+        k = int(m.group(1))
+        nan = tuple(np.full_like(x, np.nan) for x in run.stage_outputs[: k - 1])
+        return dataclasses.replace(run, stage_outputs=nan + run.stage_outputs[k - 1 :])
 
-    def _run(self, start, n_w, walks, parts, drive, taps, lux, extra) -> ChainRun:
-        taps = _check_taps(taps, start)
+    def _run(self, start, n_w, walks, parts, drive, taps, lux, extra, sensor=None,
+             first_tap=None) -> ChainRun:  # fmt: skip
+        taps = _check_taps(taps, start if first_tap is None else first_tap)
         n_t = self.n_samples
-        sig, discharged = drive if drive is not None else (np.zeros((0, 0)), False)
+        sig, discharged, first = drive if drive is not None else (np.zeros((0, 0)), False, 0)
         if extra is None:
             extra = np.zeros((n_w, 0))
         else:
             extra = _finite_batch("extra", extra, n_t)
             if extra.shape[0] != n_w:
                 raise DesignError("extra", extra.shape, f"finite values of shape ({n_w}, {n_t})")
-        dt = tb.DriveTable(int(start), tb._f(sig), tb._f(extra), bool(discharged),
+        dt = tb.DriveTable(int(start), tb._f(sig), tb._f(extra), bool(discharged), int(first),
                            self._daylight(lux, n_w))  # fmt: skip
         per_element = "element_power" in taps
         optics = self.optics_per_element if per_element else self.optics_summed
@@ -227,7 +261,8 @@ class CompiledChain:
             parts = tb.part_table(_NO_TARGET, np.zeros(0), np.zeros(0))
         from ..kernels.chain import run_batch
 
-        run_batch(walks, parts, optics, self.sensor, self.follower, self.stages, self.logic,
+        sensor = self.sensor if sensor is None else sensor
+        run_batch(walks, parts, optics, sensor, self.follower, self.stages, self.logic,
                   dt, arrays, out)  # fmt: skip
         crossing = None
         if start == 0:
@@ -385,6 +420,7 @@ def compile_chain(detector, sample_rate: float, n_samples: int) -> CompiledChain
         tb.optics_table(beams, sensor, h, False),
         tb.optics_table(beams, sensor, h, True),
         tb.sensor_table(sensor, fs),
+        tb.sensor_table(sensor, fs, current=True),
         tb.follower_table(detector.follower),
         tb.stage_table(detector.stages, fs),
         tb.logic_table(detector.comparator, detector.logic or PulseLogic(), n, fs),

@@ -67,6 +67,7 @@ class SensorTable(NamedTuple):
     residue1: float
     residue2: float
     k: float  # direct term of the parallel form
+    dc_gain: float  # response to the first sample held for ever (0 for power, R_G for current)
 
 
 class FollowerTable(NamedTuple):
@@ -136,6 +137,7 @@ class DriveTable(NamedTuple):
     signal: np.ndarray  # (walks, samples) input at that node (none when starting at optics)
     extra: np.ndarray  # (walks, samples) added at the comparator input, or no columns
     discharged: bool  # every capacitor starts discharged (power-up)
+    first_section: int  # a run started at a stage's input: that stage's first section
     daylight: np.ndarray  # (rows, ticks or 1) daylight sense-node voltage [V]; no rows: none
 
 
@@ -232,11 +234,14 @@ def optics_table(beams, sensor, lens_height: float, per_element: bool) -> Optics
     )  # fmt: skip
 
 
-def sensor_table(sensor, sample_rate: float) -> SensorTable:
-    """The sensor's sections, and their parallel form when usable."""
+def sensor_table(sensor, sample_rate: float, current: bool = False) -> SensorTable:
+    """The sensor's sections V_gate/P_eq, and their parallel form when usable; with
+    ``current``, the gate node's impedance V_gate/i instead (an injected element current)."""
     from scipy import signal
 
-    sos = np.array(sensor.sos(sample_rate), dtype=float)
+    sos = np.array(
+        sensor.impedance_sos(sample_rate) if current else sensor.sos(sample_rate), dtype=float
+    )
     sos = sos / sos[:, 3:4]
     par = (0.0,) * 5
     ok = False
@@ -251,7 +256,8 @@ def sensor_table(sensor, sample_rate: float) -> SensorTable:
         )
         if ok:
             par = (*np.real(p), *np.real(r), float(np.real(k[0])))
-    return SensorTable(_f(sos), ok, *(float(x) for x in par))
+    dc = float(sensor.gate_resistance) if current else 0.0
+    return SensorTable(_f(sos), ok, *(float(x) for x in par), dc)
 
 
 def follower_table(follower) -> FollowerTable:

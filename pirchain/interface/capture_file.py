@@ -166,20 +166,25 @@ def _read_csv(path: str) -> tuple[np.ndarray, tuple[str, str], list[int]]:
     return np.array(rows, dtype=float).reshape(-1, 2), header, lines
 
 
-def read_capture(path, node: str, scale: float = 1.0, time_scale: float = 1.0) -> Capture:
+def read_capture(
+    path, node: str, scale: float = 1.0, time_scale: float = 1.0, nodes=NODES
+) -> Capture:
     """Read a capture file (CSV or ``.npy``) taken at ``node``.
 
     Parameters
     ----------
     path : str
     node : str
-        One of :data:`NODES`.
+        One of ``nodes``.
     scale, time_scale : float
         Multipliers of the value and time columns (1e-3 for mV or ms; a probe's ratio).
+    nodes : sequence of str
+        The nodes a capture may name (default :data:`NODES`, where the bench measures; a
+        signal to inject may name the engine's drive nodes instead).
     """
     path = str(path)
-    if node not in NODES:
-        raise DesignError("capture.node", node, "one of " + ", ".join(NODES))
+    if node not in nodes:
+        raise DesignError("capture.node", node, "one of " + ", ".join(nodes))
     for name, k in (("capture.scale", scale), ("capture.time_scale", time_scale)):
         if not (isinstance(k, (int, float)) and np.isfinite(k) and k != 0 and abs(k) < 1e12):
             raise DesignError(name, k, "a finite, non-zero multiplier")

@@ -19,7 +19,7 @@ import numpy as np
 from ..errors import DesignError, ValidityWarning, check_range, warnings_once
 from ..settings import MC_HOURS, WALK_DIRECTIONS, WALK_SPEED_RANGE, check_work
 from ..units import parse_celsius, parse_quantity
-from . import cli_calibration, cli_production, cli_two_wire
+from . import cli_calibration, cli_inject, cli_production, cli_two_wire
 from .cautions import CAUTIONS
 from .output import Progress, check_output, free_name, span, terminal_text, to_json, write_new
 
@@ -38,6 +38,7 @@ COMMANDS = {
     **cli_production.COMMANDS,
     **cli_calibration.COMMANDS,
     **cli_two_wire.COMMANDS,
+    **cli_inject.COMMANDS,
 }
 
 DIRECTION_HELP = "way of tangential walks: both in turn, ccw or cw (seen from above)"
@@ -138,6 +139,7 @@ def build_parser() -> argparse.ArgumentParser:
     cli_production.add_parsers(add)
     cli_calibration.add_parsers(add)
     cli_two_wire.add_parsers(add)
+    cli_inject.add_parsers(add)
     return p
 
 
@@ -189,11 +191,8 @@ def _with_setting(design, key: str, value, option: str | None = None):
 
 
 def _list(text, field, unit=None):
-    return [
-        parse_quantity(v.strip(), f"{field}[{i}]", unit)
-        for i, v in enumerate(text.split(","))
-        if v.strip()
-    ]
+    cells = [v.strip() for v in text.split(",")]
+    return [parse_quantity(v, f"{field}[{i}]", unit) for i, v in enumerate(cells) if v]
 
 
 def cmd_check(args):
@@ -539,6 +538,11 @@ def cmd_report(args):
     )
 
 
+def _on_design(command):
+    """A handler running ``command(args, design, emit)`` of a command module."""
+    return lambda a: command(a, _design(a), lambda d, t: _emit(a, d, t))
+
+
 HANDLERS = {
     "check": cmd_check,
     "demo-design": cmd_demo_design,
@@ -549,11 +553,10 @@ HANDLERS = {
     "ambient": cmd_ambient,
     "netlist": cmd_netlist,
     "report": cmd_report,
-    "yield": lambda a: cli_production.cmd_yield(a, _design(a), lambda d, t: _emit(a, d, t)),
-    "choose-values": lambda a: cli_production.cmd_choose_values(
-        a, _design(a), lambda d, t: _emit(a, d, t)
-    ),
-    "two-wire": lambda a: cli_two_wire.cmd_two_wire(a, _design(a), lambda d, t: _emit(a, d, t)),
+    "yield": _on_design(cli_production.cmd_yield),
+    "choose-values": _on_design(cli_production.cmd_choose_values),
+    "two-wire": _on_design(cli_two_wire.cmd_two_wire),
+    "inject": _on_design(cli_inject.cmd_inject),
     "bench-fit": lambda a: cli_calibration.cmd_bench_fit(
         a, _design(a), _design_text(a), lambda d, t: _emit(a, d, t)
     ),

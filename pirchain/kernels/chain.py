@@ -22,8 +22,10 @@ from .optics import walk_power
 from .sensor import gate_walk, source_walk
 from .stages import run_pair, run_single
 
-#: Nodes a run can start at (where its input signal enters).
-START_OPTICS, START_EQUIVALENT_POWER, START_GATE, START_COMPARATOR = 0, 1, 2, 3
+#: Nodes a run can start at (where its input signal enters): the scene, Σ c_k P_k (or an
+#: element current, with the gate impedance as the sensor's section), the gate, the
+#: comparator input, a stage's input (``drive.first_section``).
+START_OPTICS, START_EQUIVALENT_POWER, START_GATE, START_COMPARATOR, START_STAGE = 0, 1, 2, 3, 4
 
 
 @numba.njit(**JIT)
@@ -35,10 +37,10 @@ def _record(tap, w, sig):
 
 
 @numba.njit(**JIT)
-def _stages(sig, st, w, taps, discharged):
+def _stages(sig, st, w, taps, discharged, first):
     n_s = st.n_sections
     if taps.stages.shape[0] > 0:  # every stage output recorded: one section at a time
-        for s in range(n_s):
+        for s in range(first, n_s):
             k = st.stage_of[s]
             if st.last_of_stage[s]:
                 run_single(sig, st, s, discharged, taps.pinned[k, w])
@@ -48,7 +50,7 @@ def _stages(sig, st, w, taps, discharged):
             else:
                 run_single(sig, st, s, discharged, None)
         return
-    s = 0
+    s = first
     while s + 1 < n_s:
         run_pair(sig, st, s, discharged)
         s += 2
@@ -89,7 +91,9 @@ def run_walk(w, walks, parts, optics, sensor, follower, stages, logic, drive, ta
         _record(taps.gate, w, sig)
         source_walk(sig, follower)
         _record(taps.source, w, sig)
-        _stages(sig, stages, w, taps, drive.discharged)
+        _stages(sig, stages, w, taps, drive.discharged, 0)
+    elif start == START_STAGE:
+        _stages(sig, stages, w, taps, drive.discharged, drive.first_section)
     if drive.extra.shape[1] > 0:
         ex = drive.extra[w]
         for t in range(n_t):

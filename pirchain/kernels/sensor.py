@@ -25,9 +25,12 @@ source_voltage_at = rule(_follower.source_voltage_at)
 
 @numba.njit(**JIT)
 def gate_walk(sig, sensor):
-    """Equivalent power (samples,) [W] → gate voltage change [V], in place.
+    """Equivalent power (samples,) [W] → gate voltage change [V], in place (or, with the
+    gate node's impedance as the section, an element current [A] → the same).
 
-    ``sensor`` is a :class:`pirchain.chain.tables.SensorTable`.
+    ``sensor`` is a :class:`pirchain.chain.tables.SensorTable`; the first sample is taken as
+    having been there for ever: its response is ``sensor.dc_gain`` times it (zero for power,
+    R_G for a current), added to the response to the change.
     """
     n_t = sig.shape[0]
     p0 = sig[0]
@@ -40,7 +43,7 @@ def gate_walk(sig, sensor):
             x = sig[t]
             w1 = p1 * w1 + x
             w2 = p2 * w2 + x
-            sig[t] = k0 * x + r1 * w1 + r2 * w2
+            sig[t] = k0 * x + r1 * w1 + r2 * w2 + p0 * sensor.dc_gain
         return
     sos = sensor.sos
     for k in range(sos.shape[0]):  # one section at a time, state in registers
@@ -53,6 +56,9 @@ def gate_walk(sig, sensor):
             z0 = b1 * x - a1 * y + z1
             z1 = b2 * x - a2 * y
             sig[t] = y
+    if sensor.dc_gain != 0.0:
+        for t in range(n_t):
+            sig[t] += p0 * sensor.dc_gain
 
 
 @numba.njit(**JIT)

@@ -475,6 +475,17 @@ class PyroSensor:
         z, p, g = signal.bilinear_zpk([0.0], [-1.0 / tt, -1.0 / te], k, fs)
         return signal.zpk2sos(z, p, g)
 
+    def impedance_sos(self, sample_rate: float) -> np.ndarray:
+        """Sections of the gate node's impedance V_gate / i = R_G / (1 + s τ_E) [Ω] (R_G ∥
+        C_gate driven by the pyroelectric current); :meth:`sos` is :meth:`current_sos`
+        times these (the bilinear transform of a product is the product of the transforms)."""
+        from scipy import signal
+
+        fs = check_positive("sample_rate", sample_rate, "Hz")
+        te = self.electrical_time_constant
+        z, p, g = signal.bilinear_zpk([], [-1.0 / te], self.gate_resistance / te, fs)
+        return signal.zpk2sos(z, p, g)
+
     def current_sos(self, sample_rate: float) -> np.ndarray:
         """Sections of the gate-source current i_eq / P_eq = R_I τ_T s / (1 + s τ_T) [A W⁻¹]."""
         from scipy import signal
