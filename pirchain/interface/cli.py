@@ -268,10 +268,9 @@ def cmd_walk(args):
     for k, out in enumerate(res.stage_outputs, 1):
         cols[f"stage{k}_v"] = out[0]
     if args.csv:
-        lines = [",".join(cols)] + [
-            ",".join(f"{v:.9g}" for v in row) for row in zip(*cols.values(), strict=True)
-        ]
-        write_new(args.csv, "\n".join(lines) + "\n", args.force)
+        from .output import columns_csv  # with the waveforms' other outputs
+
+        write_new(args.csv, columns_csv(cols), args.force)
     if args.plot:
         from . import plots
 

@@ -9,7 +9,7 @@ import numpy as np
 
 from ..errors import DesignError
 from ..units import parse_quantity
-from .output import check_output, write_new
+from .output import check_output, columns_csv, write_new
 
 COMMANDS = {
     "inject": "drive a signal from a file in at any node: waveforms, pulses, decisions",
@@ -49,13 +49,6 @@ def _nodes(detector) -> tuple[str, ...]:
     return (*UNITS, *(f"stage{k}_input" for k in range(1, len(detector.stages) + 1)))
 
 
-def _number(text, option) -> float:
-    value = parse_quantity(text, option)
-    if not np.isfinite(value):
-        raise DesignError(option, text, "a finite number")
-    return value
-
-
 def cmd_inject(args, design, emit) -> None:
     """Run the command on ``design``; ``emit(data, text)`` prints the result."""
     from .capture_file import read_capture
@@ -66,8 +59,11 @@ def cmd_inject(args, design, emit) -> None:
     det.require_analog()
     fs = design.analysis.sample_rate
     nodes = _nodes(det)
-    scale, tscale = _number(args.scale, "--scale"), _number(args.time_scale, "--time-scale")
-    tail = _number(args.tail, "--tail")
+    scale, tscale = (
+        parse_quantity(args.scale, "--scale"),
+        parse_quantity(args.time_scale, "--time-scale"),
+    )
+    tail = parse_quantity(args.tail, "--tail")
     if not 0.0 <= tail <= 600.0:
         raise DesignError("--tail", tail, "0 to 600 s")
     cap = read_capture(args.signal, args.node, scale, tscale, nodes)
@@ -101,9 +97,6 @@ def cmd_inject(args, design, emit) -> None:
             cols["gate_v"], cols["source_v"] = run.gate_voltage[0], run.source_voltage[0]
         for k, out in enumerate(run.stage_outputs, 1):
             cols[f"stage{k}_v"] = out[0]
-        lines = [",".join(cols)] + [
-            ",".join(f"{v:.9g}" for v in row) for row in zip(*cols.values(), strict=True)
-        ]
-        data["written"] = write_new(args.csv, "\n".join(lines) + "\n", args.force, "--csv")
+        data["written"] = write_new(args.csv, columns_csv(cols), args.force, "--csv")
     text = "\n".join(f"{k}: {v}" for k, v in data.items())
     emit(data, text)

@@ -158,3 +158,10 @@ def span(interval, digits: int = 2) -> str:
     if interval is None:
         return "—"
     return f"{interval[0]:.{digits}f}–{interval[1]:.{digits}f}"
+
+
+def columns_csv(columns: dict) -> str:
+    """Named columns of equal length as CSV text: a header line, then rows to 9 digits."""
+    rows = zip(*columns.values(), strict=True)
+    lines = [",".join(columns)] + [",".join(f"{v:.9g}" for v in row) for row in rows]
+    return "\n".join(lines) + "\n"
