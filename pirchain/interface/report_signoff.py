@@ -42,8 +42,8 @@ def histogram(ranges, required, line):
     ax.set_xlabel(f"noise-free range at {line[0]:g}°, {line[1]:g} m/s [m]")
     ax.set_ylabel("units")
     ax.set_title("Range of the drawn units at the critical acceptance line")
-    ax.legend(fontsize=8)
-    return fig
+    ax.legend(fontsize=8, loc="upper left")
+    return plots.frame(fig)
 
 
 def html(design, section, esc, pre, img, png) -> list[str]:
