@@ -21,7 +21,7 @@ from ..errors import ValidityWarning, check_range, warnings_once
 from ..settings import WALK_SPEED_RANGE, AnalysisSettings, check_work
 from .false_triggers import comparator_sources
 from .rice import clopper_pearson
-from .walk_tests import beam_pitch, detect, make_walks
+from .walk_tests import WalkSet, beam_pitch, detect, make_walks
 
 
 @dataclass(frozen=True)
@@ -296,74 +296,150 @@ def detection_range(
     P(detect) at the distances evaluated (:func:`range_interval`); a trial count too small
     to confirm the level is said once.
     """
+    return detection_ranges(
+        detector, target, env, [(kind, bearing_deg, speed)], settings, jitter, sources
+    )[0]
+
+
+def _case_probabilities(detector, target, env, cases, distances, s, jitter, src, cache):
+    """P(detect) of every case (kind, bearing, speed) at its own distances, all walks of one
+    speed through one :func:`detect` call: (cases, distances) and, per case, the P(detect) of
+    each walking direction. Trial k meets the noise of stream k (common random numbers), so
+    a case's result does not depend on which other cases share the call."""
+    n_case, n_dist = distances.shape
+    hits = np.zeros((n_case, n_dist, s.trials))
+    sense = {}
+    jit = beam_pitch(detector) if jitter is None else jitter
+    for v in dict.fromkeys(c[2] for c in cases):  # one call per speed: one walk duration
+        parts, rows = [], []
+        for kind in dict.fromkeys(c[0] for c in cases if c[2] == v):
+            idx = [i for i, c in enumerate(cases) if c[0] == kind and c[2] == v]
+            b = np.array([cases[i][1] for i in idx], float)[:, None]
+            parts.append(make_walks(distances[idx], b, v, kind, 3.0, s.trials, jit,
+                                    s.walk_direction))  # fmt: skip
+            rows += idx
+            sense[kind] = parts[-1].direction[: s.trials]
+        walks = WalkSet(
+            *(np.concatenate([getattr(w, f) for w in parts]) for f in ("centre", "heading",
+              "speed")), parts[0].length, np.concatenate([w.direction for w in parts]),
+        )  # fmt: skip
+        hit, _ = detect(detector, target, env, walks, s.sample_rate, src, s.seed,
+                        common=s.trials, noise_cache=cache)  # fmt: skip
+        hits[rows] = hit.reshape(len(rows), n_dist, s.trials)
+    names = {1: "ccw", -1: "cw", 0: "radial"}
+    split = []
+    for i, c in enumerate(cases):
+        w = sense[c[0]]
+        split.append({names[int(x)]: hits[i][:, w == x].mean(axis=1) for x in np.unique(w)})
+    return hits.mean(axis=2), split
+
+
+@warnings_once()
+def detection_ranges(
+    detector, target, env, cases, settings=None, jitter=None, sources=None, progress=None
+):
+    """:func:`detection_range` of several cases of one design, searched together.
+
+    Every case's grid is walked in one batch and each bisection step of every case in one
+    more, so a table of bearings costs a few large batches instead of many small ones
+    (both cores busy, the noise drawn once per sample rate). With common random numbers
+    every result is the one :func:`detection_range` gives for its case alone.
+
+    Parameters
+    ----------
+    detector, target, env
+        As for :func:`detection_range`.
+    cases : sequence of (str, float, float)
+        Kind of walk ("tangential" or "radial"), bearing [°] and speed [m s⁻¹] of each range.
+    settings, jitter, sources
+        As for :func:`detection_range`.
+    progress : callable, optional
+        Called with the fraction of the search's batches done.
+
+    Returns
+    -------
+    list of RangeResult
+        In the order of ``cases``.
+    """
     s = AnalysisSettings() if settings is None else settings
-    check_range("speed", speed, *WALK_SPEED_RANGE, "m/s (a person's speed)")
+    cases = [(str(k), float(b), float(v)) for k, b, v in cases]
     grid = np.arange(s.d_min, s.d_max + 1e-9, s.step)
-    walk_samples = (3.0 / speed + 2.5) * s.sample_rate  # 3 m walks and their tail
-    check_work(
-        "analysis.trials × distances × sample_rate",
-        grid.size * s.trials * (2 if s.noise else 1) * walk_samples * (1 + s.refine / grid.size),
-    )
+    for _, _, speed in cases:
+        check_range("speed", speed, *WALK_SPEED_RANGE, "m/s (a person's speed)")
+        walk_samples = (3.0 / speed + 2.5) * s.sample_rate  # 3 m walks and their tail
+        check_work(
+            "analysis.trials × distances × sample_rate",
+            grid.size * s.trials * (2 if s.noise else 1) * walk_samples
+            * (1 + s.refine / grid.size),
+        )  # fmt: skip
     src = None
     if s.noise:
         src = comparator_sources(detector, env) if sources is None else sources
-    kw = dict(
-        bearing_deg=bearing_deg,
-        speed=speed,
-        kind=kind,
-        trials=s.trials,
-        seed=s.seed,
-        sample_rate=s.sample_rate,
-        jitter=jitter,
-        direction=s.walk_direction,
-    )
-    p_free, split = probability_of_detection(
-        detector, target, env, grid, noise=False, by_direction=True, **kw
-    )
+    cache = {}  # the noise draws, shared by every call of this search
+    batches, done = (2 if s.noise else 1) * (1 + s.refine), [0]
+
+    def evaluate(dist, use_noise):
+        done[0] += 1
+        if progress is not None:
+            progress(min(done[0] / batches, 1.0))
+        return _case_probabilities(
+            detector, target, env, [cases[i] for i in dist], np.array(list(dist.values())),
+            s, jitter, src if use_noise else None, cache,
+        )  # fmt: skip
+
+    every = range(len(cases))
+    p_free, split = evaluate({i: grid for i in every}, False)
+    p = p_free
     if s.noise:
-        p, split = probability_of_detection(
-            detector, target, env, grid, noise=True, sources=src, by_direction=True, **kw
-        )
-    else:
-        p = p_free
+        p, split = evaluate({i: grid for i in every}, True)
 
     def refined(prob, use_noise, seen):
-        k = _farthest(prob, s.level)
-        if k < 0:
-            return 0.0
-        if k == grid.size - 1:
-            return float(grid[-1])
-        a, b = grid[k], grid[k + 1]
+        """Bisection towards the next grid distance, every unfinished case at each step."""
+        k = np.array([_farthest(q, s.level) for q in prob])
+        found = np.where(k < 0, 0.0, grid[-1])
+        todo = np.flatnonzero((k >= 0) & (k < grid.size - 1))
+        a, b = grid[k[todo]], grid[k[todo] + 1]
         for _ in range(s.refine):
+            if not todo.size:
+                break
             mid = 0.5 * (a + b)
-            pm = probability_of_detection(
-                detector, target, env, [mid], noise=use_noise, sources=src, **kw
-            )[0]
-            seen.append((float(mid), float(pm)))
-            a, b = (mid, b) if pm >= s.level else (a, mid)
-        return float(a)
+            pm = evaluate({int(i): [m] for i, m in zip(todo, mid, strict=True)}, use_noise)[0]
+            for j, i in enumerate(todo):
+                seen[i].append((float(mid[j]), float(pm[j, 0])))
+            ok = pm[:, 0] >= s.level
+            a, b = np.where(ok, mid, a), np.where(ok, b, mid)
+        found[todo] = a
+        return found
 
-    seen = [(float(d), float(q)) for d, q in zip(grid, p, strict=True)]
+    seen = [[(float(d), float(q)) for d, q in zip(grid, row, strict=True)] for row in p]
     rng = refined(p, s.noise, seen)
-    rng_free = refined(p_free, False, []) if s.noise else rng
-    interval = None
-    if s.noise:
-        warn_unresolved(s.trials, s.level)
-        interval = range_interval(seen, s.trials, s.level, rng, s.d_max)
+    rng_free = refined(p_free, False, [[] for _ in every]) if s.noise else rng
+    out = []
+    for i, (kind, bearing, speed) in enumerate(cases):
+        if s.noise:
+            warn_unresolved(s.trials, s.level)  # once per range: the count says how many
+        interval = range_interval(seen[i], s.trials, s.level, rng[i], s.d_max) if s.noise else None
+        out.append(RangeResult(
+            bearing, kind, speed, float(s.level), grid, p[i], p_free[i], float(rng[i]),
+            float(rng_free[i]), _gaps(grid, p[i], s), float(s.sample_rate), int(s.trials),
+            s.walk_direction, split[i], interval,
+        ))  # fmt: skip
+    return out
+
+
+def _gaps(grid, p, s):
+    """Distances closer than the range that fail the level: each gap covers the grid cells
+    (± step/2) of its failing distances, so it is never 0 wide."""
     k = _farthest(p, s.level)
     gaps, start = [], None
-    half = 0.5 * s.step  # a gap covers the grid cells of its missed distances: never 0 wide
+    half = 0.5 * s.step
     for i in range(k + 1):
         if p[i] < s.level and start is None:
             start = grid[i]
         if p[i] >= s.level and start is not None:
             gaps.append((max(float(start) - half, s.d_min), float(grid[i - 1]) + half))
             start = None
-    return RangeResult(
-        float(bearing_deg), kind, float(speed), float(s.level), grid, p, p_free, rng,
-        rng_free, tuple(gaps), float(s.sample_rate), int(s.trials), s.walk_direction, split,
-        interval,
-    )  # fmt: skip
+    return tuple(gaps)
 
 
 @warnings_once()
@@ -386,18 +462,8 @@ def range_table(design, kinds=("tangential", "radial"), bearings=None, progress=
         Kinds in order, bearings within each.
     """
     bearings = design.analysis.bearings if bearings is None else tuple(bearings)
-    out = []
-    n = len(kinds) * len(bearings)
     det, env = design.operating, design.environment
     src = comparator_sources(det, env) if design.analysis.noise else None
-    for kind in kinds:
-        for b in bearings:
-            out.append(
-                detection_range(
-                    det, design.target, env, float(b), design.speed, kind, design.analysis,
-                    sources=src,
-                )
-            )  # fmt: skip
-            if progress is not None:
-                progress(len(out) / n)
-    return out
+    cases = [(kind, float(b), design.speed) for kind in kinds for b in bearings]
+    return detection_ranges(det, design.target, env, cases, design.analysis, sources=src,
+                            progress=progress)  # fmt: skip

@@ -18,7 +18,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import DesignError, ValidityWarning, warnings_once
-from .detection_range import detection_range
+from .detection_range import detection_ranges
 from .false_triggers import RATE_FLOOR_PER_YEAR, YEAR, analytic_rate, comparator_sources
 from .paths import best_meaning, check_sweep_path, get_path, set_path
 from .power_up import power_up
@@ -31,8 +31,8 @@ def evaluate(design) -> dict:
     det, env, tgt, a = design.operating, design.environment, design.target, design.analysis
     b = a.sweep_bearing
     src = comparator_sources(det, env) if a.noise else None  # once for both kinds of walk
-    tang = detection_range(det, tgt, env, b, design.speed, "tangential", a, sources=src)
-    rad = detection_range(det, tgt, env, b, design.speed, "radial", a, sources=src)
+    cases = [("tangential", b, design.speed), ("radial", b, design.speed)]
+    tang, rad = detection_ranges(det, tgt, env, cases, a, sources=src)
     est = analytic_rate(det, env, design.draught)
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", ValidityWarning)

@@ -221,6 +221,7 @@ def detect(
     tail: float = 2.0,
     progress=None,
     common: int | None = None,
+    noise_cache: dict | None = None,
 ):
     """Run test walks through the whole chain in chunks (bounded memory).
 
@@ -240,6 +241,9 @@ def detect(
         draw per sample rate and length, so that the same trial at other distances (or in
         another call with the same seed) meets the same noise. Without it every walk of the
         call has its own draw.
+    noise_cache : dict, optional
+        With ``common``: where the draws are kept between calls that share the noise sources,
+        the seed and ``common`` (a search calling again and again), so each is made once.
 
     Returns
     -------
@@ -254,7 +258,8 @@ def detect(
     detector.window()  # warns if the rest level is outside the window
     noise_sources = dominant_sources(noise_sources or [])
     rates = detector.sample_rate_for(walks.speed, closest_range(walks), sample_rate)
-    done, shared = 0, {}
+    done = 0
+    shared = {} if noise_cache is None else noise_cache
     for rate in np.unique(rates):  # walks that cross beams fast run at a higher rate
         idx = np.flatnonzero(rates == rate)
         for c0 in range(0, idx.size, chunk):
@@ -267,7 +272,7 @@ def detect(
             )
             noise = None
             if noise_sources and common:
-                key = (float(rate), batch.n_samples)
+                key = (float(rate), batch.n_samples, seed, common)
                 if key not in shared:
                     shared[key] = _noise(noise_sources, rate, common, seed, batch.n_samples)
                 noise = shared[key][sel % common]

@@ -26,7 +26,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..analysis.detection_range import detection_range
+from ..analysis.detection_range import detection_ranges
 from ..analysis.rice import clopper_pearson
 from ..errors import DesignError
 from ..settings import AnalysisSettings
@@ -148,11 +148,9 @@ def worst_case_range(design) -> float:
         sample_rate=a.sample_rate, level=acc.level, trials=a.trials, d_min=a.d_min,
         d_max=a.d_max, step=a.step, refine=a.refine, noise=False, seed=a.seed,
     )  # fmt: skip
-    return min(
-        detection_range(design.operating, design.target, design.environment, b, v, acc.kind,
-                        s).range
-        for b in acc.bearings for v in acc.speeds
-    )  # fmt: skip
+    cases = [(acc.kind, b, v) for b in acc.bearings for v in acc.speeds]
+    found = detection_ranges(design.operating, design.target, design.environment, cases, s)
+    return min(r.range for r in found)
 
 
 def choose_values(design, parts, units=200, objective="yield", target_yield=0.9, seed=None,
