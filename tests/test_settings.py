@@ -166,7 +166,7 @@ def test_room_temperature_is_checked_once_by_the_room():
 def test_command_line_passes_the_loaded_settings_to_every_analysis(tmp_path, monkeypatch):
     got = []
     for mod, name in (
-        (detection_range, "detection_range"),
+        (detection_range, "detection_ranges"),
         (coverage, "top_view"),
         (sweep, "evaluate"),
         (false_triggers, "monte_carlo_rate"),
@@ -184,7 +184,6 @@ def test_command_line_passes_the_loaded_settings_to_every_analysis(tmp_path, mon
                 getattr(other, name, None) is orig
             ):
                 monkeypatch.setattr(other, name, wrapped)
-    monkeypatch.setattr(sweep, "detection_range", detection_range.detection_range)
     expect = design(seed=7, sample_rate=120.0).analysis
     cli(
         tmp_path, ["range", "{design}", "--json", "--map", "{tmp}/m.png"], seed=7, sample_rate=120.0
@@ -194,12 +193,12 @@ def test_command_line_passes_the_loaded_settings_to_every_analysis(tmp_path, mon
         sample_rate=120.0)  # fmt: skip
     n_before = len(got)
     cli(tmp_path, ["report", "{design}", "--json", "-o", "{tmp}/r.html"], seed=7, sample_rate=120.0)
-    assert {g[0] for g in got[n_before:]} == {"detection_range", "top_view", "evaluate"}
+    assert {g[0] for g in got[n_before:]} == {"detection_ranges", "top_view", "evaluate"}
     names = {g[0] for g in got}
-    assert names == {"detection_range", "top_view", "evaluate", "monte_carlo_rate"}
+    assert names == {"detection_ranges", "top_view", "evaluate", "monte_carlo_rate"}
     for name, a, k in got:
-        if name == "detection_range":
-            assert a[6] == expect
+        if name == "detection_ranges":  # every range search, alone or batched
+            assert a[4] == expect
         elif name == "top_view":
             assert a[4] == expect
         elif name == "evaluate":
@@ -259,12 +258,14 @@ def test_bearings_reach_the_table_and_the_sweep(tmp_path, monkeypatch):
     out = cli(tmp_path, ["range", "{design}", "--json", "--kind", "radial"], bearings=[-20, 35])
     assert [r["bearing_deg"] for r in out["ranges"]] == [-20.0, 35.0]
     seen = []
-    orig = sweep.detection_range
+    orig = sweep.detection_ranges
     monkeypatch.setattr(
-        sweep, "detection_range", lambda *a, **k: seen.append(a[3]) or orig(*a, **k)
+        sweep, "detection_ranges", lambda *a, **k: seen.append(a[3]) or orig(*a, **k)
     )
     sweep.evaluate(design(bearings=[-20, 35, 40]))
-    assert seen == [35.0, 35.0]  # the middle bearing, tangential and radial
+    speed = design().speed
+    # the middle bearing, tangential and radial, searched together
+    assert seen == [[("tangential", 35.0, speed), ("radial", 35.0, speed)]]
 
 
 def test_seed_moves_the_random_positions(spy):
