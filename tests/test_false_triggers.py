@@ -223,3 +223,27 @@ def test_rates_below_the_floor_are_said_so():
     assert format_rate(0.5) == "0.5 per year"
     assert rate_fields(1e-219)["alarms_below_floor"] is True
     assert rate_fields(0.5)["alarms_below_floor"] is False
+
+
+def test_remembered_sources_are_the_ones_built_afresh():
+    """Issue 17: the comparator-input sources of one design are built once per run. The
+    remembered ones must give the same total PSD as a fresh build (trapezoid of the summed
+    densities, numpy), come back as a new list each call (a caller's append must not reach
+    the next caller), and follow a changed design."""
+    from pirchain.analysis.false_triggers import _build_sources
+
+    det, env = demo_detector(), demo_environment()
+    draught = Draught(rms=0.05, correlation_time=2.0)
+    first = comparator_sources(det, env, draught)
+    first.append(None)
+    again = comparator_sources(det, env, draught)
+    fresh = _build_sources(det, env, draught)
+    assert len(again) == len(fresh) == len(first) - 1
+    f = np.geomspace(0.01, 100.0, 400)
+    total = [np.trapezoid(sum(s.psd(f) for s in src), f) for src in (again, fresh)]
+    assert total[0] == pytest.approx(total[1], rel=1e-12) and total[0] > 0
+    other = dataclasses.replace(det)  # an equal copy: the same remembered sources
+    assert other is not det and comparator_sources(other, env, draught)[0] is again[0]
+    quieter = comparator_sources(det, env, Draught(rms=0.01, correlation_time=2.0))
+    q = np.trapezoid(sum(s.psd(f) for s in quieter), f)
+    assert q < total[0]  # a smaller draught: not the remembered sources of the other one

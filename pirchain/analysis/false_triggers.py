@@ -19,6 +19,7 @@ References
 from __future__ import annotations
 
 import dataclasses
+import functools
 import math
 from dataclasses import dataclass
 
@@ -37,7 +38,23 @@ DRAUGHT_SOURCE = "HVAC draught"  # the name of the draught's noise source
 
 
 def comparator_sources(detector, env, draught: Draught | None = None) -> list[NoiseSource]:
-    """Noise sources plus the draught (as one shaped source) at the comparator input."""
+    """Noise sources plus the draught (as one shaped source) at the comparator input.
+
+    The sources of one (detector, room, draught) are built once and remembered (a report
+    asks for them from several analyses; each build multiplies transfer functions); a new
+    list is returned each time. Parts that cannot be hashed are built afresh."""
+    try:
+        return list(_remembered_sources(detector, env, draught))
+    except TypeError:  # an unhashable part: nothing to remember it by
+        return _build_sources(detector, env, draught)
+
+
+@functools.lru_cache(maxsize=16)
+def _remembered_sources(detector, env, draught) -> tuple[NoiseSource, ...]:
+    return tuple(_build_sources(detector, env, draught))
+
+
+def _build_sources(detector, env, draught) -> list[NoiseSource]:
     src = noise_sources(detector)
     if draught is not None and draught.rms > 0:
         diff, common = draught_parts(detector, env, draught)
