@@ -86,6 +86,9 @@ class RangeResult:
     range_interval: tuple[float, float] | None = None
 
 
+#: Names of the walking directions of :attr:`WalkSet.direction` in P(detect) by direction.
+DIRECTION_NAMES = {1: "ccw", -1: "cw", 0: "radial"}
+
 #: Confidence of a range's interval (two-sided, Clopper–Pearson at each evaluated distance).
 RANGE_CONFIDENCE = 0.95
 
@@ -225,8 +228,7 @@ def probability_of_detection(
     if not by_direction:
         return p
     sense = walks.direction[:trials]
-    names = {1: "ccw", -1: "cw", 0: "radial"}
-    split = {names[int(w)]: hit[:, sense == w].mean(axis=1).reshape(d.shape)
+    split = {DIRECTION_NAMES[int(w)]: hit[:, sense == w].mean(axis=1).reshape(d.shape)
              for w in np.unique(sense)}  # fmt: skip
     return p, split
 
@@ -326,11 +328,12 @@ def _case_probabilities(detector, target, env, cases, distances, s, jitter, src,
         hit, _ = detect(detector, target, env, walks, s.sample_rate, src, s.seed,
                         common=s.trials, noise_cache=cache)  # fmt: skip
         hits[rows] = hit.reshape(len(rows), n_dist, s.trials)
-    names = {1: "ccw", -1: "cw", 0: "radial"}
     split = []
     for i, c in enumerate(cases):
         w = sense[c[0]]
-        split.append({names[int(x)]: hits[i][:, w == x].mean(axis=1) for x in np.unique(w)})
+        split.append(
+            {DIRECTION_NAMES[int(x)]: hits[i][:, w == x].mean(axis=1) for x in np.unique(w)}
+        )
     return hits.mean(axis=2), split
 
 
@@ -462,8 +465,6 @@ def range_table(design, kinds=("tangential", "radial"), bearings=None, progress=
         Kinds in order, bearings within each.
     """
     bearings = design.analysis.bearings if bearings is None else tuple(bearings)
-    det, env = design.operating, design.environment
-    src = comparator_sources(det, env) if design.analysis.noise else None
     cases = [(kind, float(b), design.speed) for kind in kinds for b in bearings]
-    return detection_ranges(det, design.target, env, cases, design.analysis, sources=src,
-                            progress=progress)  # fmt: skip
+    return detection_ranges(design.operating, design.target, design.environment, cases,
+                            design.analysis, progress=progress)  # fmt: skip

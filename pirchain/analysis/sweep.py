@@ -19,7 +19,7 @@ import numpy as np
 
 from ..errors import DesignError, ValidityWarning, warnings_once
 from .detection_range import detection_ranges
-from .false_triggers import RATE_FLOOR_PER_YEAR, YEAR, analytic_rate, comparator_sources
+from .false_triggers import RATE_FLOOR_PER_YEAR, YEAR, analytic_rate
 from .paths import best_meaning, check_sweep_path, get_path, set_path
 from .power_up import power_up
 
@@ -30,9 +30,8 @@ def evaluate(design) -> dict:
     """Tangential and radial range, false triggers, settling time and supply current."""
     det, env, tgt, a = design.operating, design.environment, design.target, design.analysis
     b = a.sweep_bearing
-    src = comparator_sources(det, env) if a.noise else None  # once for both kinds of walk
-    cases = [("tangential", b, design.speed), ("radial", b, design.speed)]
-    tang, rad = detection_ranges(det, tgt, env, cases, a, sources=src)
+    cases = [("tangential", b, design.speed), ("radial", b, design.speed)]  # one search
+    tang, rad = detection_ranges(det, tgt, env, cases, a)
     est = analytic_rate(det, env, design.draught)
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", ValidityWarning)
